@@ -1,0 +1,72 @@
+"""The ``legbridge`` command line: one sub-command per module in limits/commands/.
+
+Exit status (DESIGN.md): 0 every case within the modelled limits, 1 a limit is exceeded (the review
+is still written), 2 bad input (one message on stderr, no traceback, nothing written).
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import sys
+
+from legbridge.robots.errors import LegbridgeError
+
+# Sub-command modules, each with register(subparsers) that sets ``func(args) -> int``.
+COMMAND_MODULES = ("robot", "translate", "check", "review", "sweep")
+
+EXIT_WITHIN, EXIT_EXCEEDS, EXIT_BAD_INPUT = 0, 1, 2
+
+
+def tool_version() -> str:
+    from importlib.metadata import PackageNotFoundError, version
+
+    try:
+        return version("legbridge")
+    except PackageNotFoundError:  # running from a source tree without installing
+        return "0+unknown"
+
+
+class _Parser(argparse.ArgumentParser):
+    def error(self, message: str):  # one line, exit 2, like every other bad input
+        self.print_usage(sys.stderr)
+        print(f"legbridge: error: {message}", file=sys.stderr)
+        raise SystemExit(EXIT_BAD_INPUT)
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = _Parser(
+        prog="legbridge",
+        description="Translate spring-mass leg plans into joint targets and review them against the hardware's modelled limits.",
+    )
+    parser.add_argument("--version", action="version", version=f"legbridge {tool_version()}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+    for name in COMMAND_MODULES:
+        try:
+            mod = importlib.import_module(f"legbridge.limits.commands.{name}")
+        except ModuleNotFoundError as exc:
+            if exc.name == f"legbridge.limits.commands.{name}":
+                continue  # command not built yet
+            raise
+        mod.register(sub)
+    return parser
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if not getattr(args, "func", None):
+        parser.print_help(sys.stderr)
+        return EXIT_BAD_INPUT
+    try:
+        return int(args.func(args))
+    except LegbridgeError as exc:
+        print(f"legbridge: error: {exc}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except KeyboardInterrupt:
+        print("legbridge: interrupted; no output was written", file=sys.stderr)
+        return 130
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

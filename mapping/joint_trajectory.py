@@ -1,0 +1,74 @@
+"""Joint-space targets of one case at the controller rate: what translate() produces.
+
+Shapes: (n,) per sample, (n, j) per sample and leg joint (joint order = JointTrajectory.joint_names),
+(n, 2) for planar vectors (x, z) and (n, 2, j) for the foot Jacobian. SI units; arrays read-only.
+Sign conventions as in DESIGN.md (joint torque: applied by the actuator to the child segment, +y).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+# Reasons a sample can be flagged by the mapping (bit flags in JointTrajectory.flags).
+FLAG_UNREACHABLE = 1        # leg length beyond reach (too long or too short): IK has no solution
+FLAG_IK_NOT_CONVERGED = 2   # numerical IK did not converge to tolerance
+FLAG_SINGULAR = 4           # Jacobian (near) singular: velocities/accelerations unreliable
+FLAG_NONFINITE = 8          # a computed value is NaN or infinite
+FLAG_NAMES = {
+    FLAG_UNREACHABLE: "pose out of reach",
+    FLAG_IK_NOT_CONVERGED: "inverse kinematics did not converge",
+    FLAG_SINGULAR: "leg (near) singular",
+    FLAG_NONFINITE: "non-finite value",
+}
+
+
+@dataclass(frozen=True, eq=False)
+class JointTrajectory:
+    """Targets for one case.
+
+    time_s (n,) [s]; stance (n,) bool
+    q, qd, qdd (n, j) [rad, rad/s, rad/s^2]; tau (n, j) joint torque [N m]
+    tau_free (n, j): joint torque with the ground force removed, so tau = tau_free - J^T F [N m]
+    jacobian (n, 2, j): foot point Jacobian (x, z rows) in the world-aligned frame [m/rad]
+    foot_force_n (n, 2): ground force on the foot (x, z) used for tau [N]
+    base_residual (n, 3): wrench (x force [N], z force [N], pitch moment [N m]) the base would need
+        beyond what the leg provides: how far the plan's body motion is from the leg model
+    motor_position_rad, motor_speed_rad_s, motor_torque_nm (n, j): motor side (gear ratio applied;
+        motor position includes the series-spring deflection tau / k)
+    current_a, voltage_v (n, j): DC-equivalent drive current [A] and terminal voltage [V]
+    electrical_power_w, mechanical_power_w (n, j) [W]
+    flags (n,) int: bit flags FLAG_* above (0 = nothing flagged)
+    """
+
+    case: str
+    ground_height_m: float
+    joint_names: tuple[str, ...]
+    rate_hz: float
+    time_s: np.ndarray
+    stance: np.ndarray
+    q: np.ndarray
+    qd: np.ndarray
+    qdd: np.ndarray
+    tau: np.ndarray
+    tau_free: np.ndarray
+    jacobian: np.ndarray
+    foot_force_n: np.ndarray
+    base_residual: np.ndarray
+    motor_position_rad: np.ndarray
+    motor_speed_rad_s: np.ndarray
+    motor_torque_nm: np.ndarray
+    current_a: np.ndarray
+    voltage_v: np.ndarray
+    electrical_power_w: np.ndarray
+    mechanical_power_w: np.ndarray
+    flags: np.ndarray
+
+    @property
+    def n_samples(self) -> int:
+        return int(self.time_s.shape[0])
+
+    @property
+    def n_joints(self) -> int:
+        return len(self.joint_names)

@@ -1,0 +1,70 @@
+"""The project's exception family.
+
+Every error legbridge raises on purpose derives from :class:`LegbridgeError`. Subclasses also
+inherit the matching built-in (``ValueError``, ``FileNotFoundError``...) so callers that catch the
+built-in keep working. Messages name the file, the key or row, what was expected and what was
+found; the command line prints the message alone (no traceback) and exits with status 2.
+"""
+
+from __future__ import annotations
+
+
+class LegbridgeError(Exception):
+    """Base of every deliberate legbridge error.
+
+    Parameters are all optional; the message is assembled as
+    ``<path>: <row/key>: expected <expected>, found <found>. <hint>``.
+    """
+
+    def __init__(
+        self,
+        message: str | None = None,
+        *,
+        path: str | None = None,
+        key: str | None = None,
+        row: int | None = None,
+        expected: str | None = None,
+        found: object = None,
+        hint: str | None = None,
+    ) -> None:
+        self.path = None if path is None else str(path)
+        self.key = key
+        self.row = row
+        self.expected = expected
+        self.found = found
+        self.hint = hint
+        parts: list[str] = []
+        if self.path:
+            parts.append(self.path)
+        if row is not None:
+            parts.append(f"row {row}")
+        if key:
+            parts.append(f"'{key}'" if " " not in key else key)
+        head = ": ".join(parts)
+        body = message or ""
+        if expected is not None:
+            body = (body + "; " if body else "") + f"expected {expected}, found {_show(found)}"
+        if hint:
+            body = (body + ". " if body else "") + hint
+        text = f"{head}: {body}" if head and body else (head or body or "legbridge error")
+        super().__init__(text)
+
+
+def _show(value: object) -> str:
+    if isinstance(value, str):
+        return repr(value)
+    if isinstance(value, float):
+        return f"{value:g}"
+    return str(value)
+
+
+class RobotFileError(LegbridgeError, ValueError):
+    """A robot description (TOML, URDF or actuator table) is missing, malformed or implausible."""
+
+
+class InputFileNotFound(LegbridgeError, FileNotFoundError):
+    """An input file named on the command line or in a description does not exist."""
+
+
+class OutputExistsError(LegbridgeError, FileExistsError):
+    """An output file exists and overwriting it was not asked for (``--force``)."""

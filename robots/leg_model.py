@@ -1,0 +1,117 @@
+"""The Pinocchio model of a leg on a planar floating base.
+
+Base: three joints from the world, ``base_x`` (PX), ``base_z`` (PZ), ``base_pitch`` (RY), so
+q = v in size and the base coordinates are (x, z, pitch) of the body centre of mass. The body
+inertia sits on ``base_pitch``. The hip joint is placed at ``hip_offset_m`` from the body centre
+of mass; each leg joint is an RY joint, segment i hangs along -z from joint i, and the ``foot``
+frame sits at the distal end of the last segment. Zero joint angles: the leg hangs straight down.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import pinocchio as pin
+
+from .errors import RobotFileError
+from .robot import Robot
+
+BASE_JOINTS = ("base_x", "base_z", "base_pitch")
+FOOT_FRAME = "foot"
+HIP_FRAME = "hip"
+
+
+@dataclass(frozen=True, eq=False)
+class LegModel:
+    """A Pinocchio model of one leg plus the indices needed to use it.
+
+    joint_names: leg joints hip to foot; q_index / v_index: their entries in q and v
+    base_q_index / base_v_index: (x, z, pitch) entries
+    foot_frame_id, hip_frame_id: Pinocchio frame ids
+    link_lengths_m: distances hip->knee, knee->(ankle->)foot in the zero pose [m]
+    """
+
+    model: pin.Model
+    joint_names: tuple[str, ...]
+    q_index: np.ndarray
+    v_index: np.ndarray
+    base_q_index: np.ndarray
+    base_v_index: np.ndarray
+    foot_frame_id: int
+    hip_frame_id: int
+    link_lengths_m: tuple[float, ...]
+
+    @property
+    def n_joints(self) -> int:
+        return len(self.joint_names)
+
+    @property
+    def max_reach_m(self) -> float:
+        return float(sum(self.link_lengths_m))
+
+    def full_q(self, base_xzp, joint_q) -> np.ndarray:
+        """Assemble one configuration vector from base (x, z, pitch) and leg joint angles."""
+        q = pin.neutral(self.model)
+        q[self.base_q_index] = base_xzp
+        q[self.q_index] = joint_q
+        return q
+
+
+def _segment_inertia(mass: float, com: float, inertia: float) -> pin.Inertia:
+    # Planar model: only the pitch (y) inertia matters; x gets the same value, z a small one, so the
+    # 3-D inertia is physically valid (triangle inequality) and round-trips through URDF.
+    return pin.Inertia(mass, np.array([0.0, 0.0, -com]), np.diag([inertia, inertia, 1e-3 * inertia]))
+
+
+def index_model(model: pin.Model, leg_joints: tuple[str, ...], foot_frame: str, hip_frame: str) -> LegModel:
+    """Wrap a Pinocchio model that has the base joints, the named leg joints and foot/hip frames."""
+    def jid(name):
+        if not model.existJointName(name):
+            raise RobotFileError(f"model has no joint '{name}'", hint=f"joints: {list(model.names)[1:]}")
+        return model.getJointId(name)
+
+    for name in BASE_JOINTS + leg_joints:
+        j = model.joints[jid(name)]
+        if j.nq != 1 or j.nv != 1:
+            raise RobotFileError(f"joint '{name}' must have one coordinate", expected="nq = nv = 1", found=f"nq = {j.nq}")
+    q_index = np.array([model.joints[jid(n)].idx_q for n in leg_joints])
+    v_index = np.array([model.joints[jid(n)].idx_v for n in leg_joints])
+    bq = np.array([model.joints[jid(n)].idx_q for n in BASE_JOINTS])
+    bv = np.array([model.joints[jid(n)].idx_v for n in BASE_JOINTS])
+    foot_id = model.getFrameId(foot_frame)
+    hip_id = model.getFrameId(hip_frame)
+    data = model.createData()
+    pin.framesForwardKinematics(model, data, pin.neutral(model))
+    pts = [data.oMi[jid(n)].translation for n in leg_joints] + [data.oMf[foot_id].translation]
+    lengths = tuple(float(np.linalg.norm(b - a)) for a, b in zip(pts[:-1], pts[1:]))
+    return LegModel(model, tuple(leg_joints), q_index, v_index, bq, bv, foot_id, hip_id, lengths)
+
+
+def build_leg_model(robot: Robot) -> LegModel:
+    """Pinocchio model of a robot described by segments (native TOML) or by a URDF."""
+    if robot.urdf is not None:
+        from .urdf_reader import build_urdf_leg_model
+
+        return build_urdf_leg_model(robot)
+    model = pin.Model()
+    model.name = robot.name
+    ident = pin.SE3.Identity()
+    jx = model.addJoint(0, pin.JointModelPX(), ident, BASE_JOINTS[0])
+    jz = model.addJoint(jx, pin.JointModelPZ(), ident, BASE_JOINTS[1])
+    jp = model.addJoint(jz, pin.JointModelRY(), ident, BASE_JOINTS[2])
+    model.appendBodyToJoint(jp, pin.Inertia(robot.body_mass_kg, np.zeros(3),
+                                            np.diag([robot.body_pitch_inertia_kgm2] * 2 + [1e-3 * robot.body_pitch_inertia_kgm2])), ident)
+    model.addFrame(pin.Frame("body", jp, ident, pin.FrameType.BODY))
+    hip_placement = pin.SE3(np.eye(3), np.array([robot.hip_offset_m[0], 0.0, robot.hip_offset_m[1]]))
+    model.addFrame(pin.Frame(HIP_FRAME, jp, hip_placement, pin.FrameType.OP_FRAME))
+    parent, placement = jp, hip_placement
+    for seg, joint in zip(robot.segments, robot.joints):
+        j = model.addJoint(parent, pin.JointModelRY(), placement, joint.name,
+                           max_effort=np.array([np.inf]), max_velocity=np.array([np.inf]),
+                           min_config=np.array([joint.lower_rad]), max_config=np.array([joint.upper_rad]))
+        model.appendBodyToJoint(j, _segment_inertia(seg.mass_kg, seg.com_m, seg.inertia_kgm2), ident)
+        model.addFrame(pin.Frame(seg.name, j, ident, pin.FrameType.BODY))
+        parent, placement = j, pin.SE3(np.eye(3), np.array([0.0, 0.0, -seg.length_m]))
+    model.addFrame(pin.Frame(FOOT_FRAME, parent, placement, pin.FrameType.OP_FRAME))
+    return index_model(model, robot.joint_names, FOOT_FRAME, HIP_FRAME)

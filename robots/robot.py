@@ -1,0 +1,182 @@
+"""The validated description of a leg: segments, joints, actuators, springs, ground.
+
+Units are SI throughout (see DESIGN conventions): metres, kilograms, seconds, radians, newton
+metres, amperes, volts, ohms, kelvin per watt, degrees Celsius for temperatures.
+
+Motor constants are stored in one internal convention, the *DC-equivalent motor*:
+
+    torque  T = Kt * I                   [N m]      (I: the current the drive limits are set in)
+    voltage V = R * I + Ke * w  <= V_max [V]        (w: motor shaft speed, rad/s)
+
+with Kt [N m/A] and Ke [V s/rad] equal for an ideal motor. A three-phase motor under field-oriented
+control maps onto this form exactly when I is the phase-peak q-axis current, Kt is per phase-peak
+ampere, R = 1.5 R_phase and V_max = (sqrt(3)/2) V_bus with space-vector modulation (robots.motor_constants
+does the conversion and documents it).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+KNEE_BRANCHES = ("backward", "forward")
+
+
+@dataclass(frozen=True)
+class Segment:
+    """One rigid segment of the leg, ordered from hip to foot.
+
+    length_m: proximal joint to distal joint (or foot contact point for the last segment) [m]
+    com_m: centre of mass from the proximal joint, along the segment [m]
+    inertia_kgm2: pitch inertia about the centre of mass [kg m^2]
+    """
+
+    name: str
+    length_m: float
+    mass_kg: float
+    com_m: float
+    inertia_kgm2: float
+
+
+@dataclass(frozen=True)
+class ThermalModel:
+    """Winding thermal model, one node (winding to ambient) or two nodes (winding, housing).
+
+    One node: C_w dT_w/dt = P - (T_w - T_amb) / R_w, tau_w = R_w C_w.
+    Two nodes (when ``housing_resistance_k_per_w`` is set): R_w, tau_w are winding-to-housing,
+    R_h, tau_h housing-to-ambient.
+    """
+
+    winding_resistance_k_per_w: float
+    winding_time_constant_s: float
+    max_winding_temp_c: float
+    ambient_temp_c: float
+    housing_resistance_k_per_w: float | None = None
+    housing_time_constant_s: float | None = None
+
+    @property
+    def two_node(self) -> bool:
+        return self.housing_resistance_k_per_w is not None
+
+    @property
+    def total_resistance_k_per_w(self) -> float:
+        """Winding-to-ambient resistance in steady state [K/W]."""
+        return self.winding_resistance_k_per_w + (self.housing_resistance_k_per_w or 0.0)
+
+
+@dataclass(frozen=True)
+class Actuator:
+    """Motor, drive and gearbox of one joint, in the internal DC-equivalent convention.
+
+    gear_ratio: motor speed / joint speed [-]
+    gearbox_efficiency: 0 < eta <= 1, applied by power direction (motoring: tau = eta N T_m;
+        back-driven: tau = N T_m / eta)
+    torque_constant_nm_per_a, back_emf_v_s_per_rad: Kt, Ke (DC-equivalent) [N m/A], [V s/rad]
+    winding_resistance_ohm: DC-equivalent winding resistance [ohm]
+    bus_voltage_v: supply bus voltage [V]; max_voltage_v: DC-equivalent voltage the drive can put
+        across the winding (bus voltage times the modulation factor) [V]
+    peak_current_a, continuous_current_a: drive current limits in the same current as Kt [A]
+    rotor_inertia_kgm2: rotor inertia on the motor side [kg m^2]
+    max_motor_speed_rad_s: mechanical motor speed limit [rad/s]
+    """
+
+    gear_ratio: float
+    gearbox_efficiency: float
+    torque_constant_nm_per_a: float
+    back_emf_v_s_per_rad: float
+    winding_resistance_ohm: float
+    bus_voltage_v: float
+    max_voltage_v: float
+    peak_current_a: float
+    continuous_current_a: float
+    rotor_inertia_kgm2: float
+    max_motor_speed_rad_s: float
+    thermal: ThermalModel
+    motor_type: str = "dc"
+    notes: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class Spring:
+    """Series spring between motor side and joint side (series-elastic joint).
+
+    stiffness_nm_per_rad [N m/rad], damping_nms_per_rad [N m s/rad]
+    """
+
+    stiffness_nm_per_rad: float
+    damping_nms_per_rad: float = 0.0
+
+
+@dataclass(frozen=True)
+class Joint:
+    """A pitch joint of the leg and its actuator; joint i moves segment i.
+
+    lower_rad, upper_rad: hard stops [rad]
+    velocity_limit_rad_s, effort_limit_nm: extra joint-side bounds (e.g. URDF ``<limit>``); the
+        tighter of these and the actuator-derived values applies (see robots.actuator_limits).
+    """
+
+    name: str
+    lower_rad: float
+    upper_rad: float
+    actuator: Actuator
+    spring: Spring | None = None
+    velocity_limit_rad_s: float | None = None
+    effort_limit_nm: float | None = None
+
+
+@dataclass(frozen=True)
+class UrdfSource:
+    """Where a URDF-described leg comes from: the file, the sagittal chain and locked joints."""
+
+    urdf_path: str
+    hip_link: str
+    foot_frame: str
+    leg_joints: tuple[str, ...]
+    locked_joints: tuple[tuple[str, float], ...] = ()
+    base_link: str | None = None
+
+
+@dataclass(frozen=True)
+class Robot:
+    """A validated leg description.
+
+    body_mass_kg, body_pitch_inertia_kgm2: everything the leg carries (body, other leg, payload)
+    knee: 'backward' (knee behind the hip-foot line, knee angle < 0) or 'forward'
+    ground_friction: Coulomb friction coefficient of the test surface [-]
+    hip_offset_m: hip joint centre relative to the body centre of mass, (x, z) [m]
+    segments: hip to foot; empty for URDF legs (geometry then comes from the URDF)
+    joints: hip, knee (and ankle), in chain order
+    source, sha256: the description file and its SHA-256 (hex)
+    warnings: non-fatal findings of the loader (e.g. Kt and Ke that disagree)
+    """
+
+    name: str
+    body_mass_kg: float
+    body_pitch_inertia_kgm2: float
+    knee: str
+    ground_friction: float
+    segments: tuple[Segment, ...]
+    joints: tuple[Joint, ...]
+    source: str = ""
+    sha256: str = ""
+    hip_offset_m: tuple[float, float] = (0.0, 0.0)
+    urdf: UrdfSource | None = None
+    warnings: tuple[str, ...] = field(default=(), compare=False)
+
+    @property
+    def joint_names(self) -> tuple[str, ...]:
+        return tuple(j.name for j in self.joints)
+
+    def joint(self, name: str) -> Joint:
+        for j in self.joints:
+            if j.name == name:
+                return j
+        from .errors import LegbridgeError
+
+        raise LegbridgeError(
+            f"robot '{self.name}' has no joint '{name}'", expected=f"one of {list(self.joint_names)}", found=name
+        )
+
+    @property
+    def leg_mass_kg(self) -> float:
+        return float(sum(s.mass_kg for s in self.segments))

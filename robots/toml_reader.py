@@ -1,0 +1,135 @@
+"""The native TOML leg description: planar serial legs with 2 or 3 pitch joints.
+
+Layout (keys carry their unit; see robots/library/*.toml for complete, invented examples)::
+
+    [robot]      name, body_mass_kg, body_pitch_inertia_kgm2, knee, ground_friction,
+                 optional hip_offset_x_m, hip_offset_z_m
+    [[segments]] name, length_m, mass_kg, com_m, inertia_kgm2      (hip to foot, 2 or 3 of them)
+    [joints.<name>]  lower_rad, upper_rad, actuator keys (robots.actuator_reader),
+                 optional spring_stiffness_nm_per_rad, spring_damping_nms_per_rad
+
+Joint i moves segment i; joint tables are matched to segments in file order.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import tomllib
+from pathlib import Path
+
+from .actuator_reader import read_actuator
+from .errors import InputFileNotFound, RobotFileError
+from .fields import Table
+from .robot import KNEE_BRANCHES, Joint, Robot, Segment, Spring
+
+
+def read_bytes(path: str | Path) -> bytes:
+    p = Path(path)
+    if not p.is_file():
+        raise InputFileNotFound("file not found", path=str(p))
+    return p.read_bytes()
+
+
+def parse_toml(data: bytes, path: str) -> dict:
+    try:
+        return tomllib.loads(data.decode("utf-8"))
+    except UnicodeDecodeError as exc:
+        raise RobotFileError("not UTF-8 text", path=path) from exc
+    except tomllib.TOMLDecodeError as exc:
+        raise RobotFileError(f"not valid TOML ({exc})", path=path) from exc
+
+
+def read_spring(t: Table) -> Spring | None:
+    k = t.number("spring_stiffness_nm_per_rad", None, positive=True)
+    c = t.number("spring_damping_nms_per_rad", None, nonneg=True)
+    if k is None:
+        if c is not None:
+            raise RobotFileError("spring damping given without stiffness", path=t.path, key=t.key("spring_stiffness_nm_per_rad"))
+        return None
+    return Spring(stiffness_nm_per_rad=k, damping_nms_per_rad=c or 0.0)
+
+
+def read_joint(name: str, t: Table) -> Joint:
+    lower = t.number("lower_rad")
+    upper = t.number("upper_rad")
+    if lower >= upper:
+        raise RobotFileError(path=t.path, key=t.key("upper_rad"), expected=f"a value above lower_rad ({lower:g})", found=upper)
+    joint = Joint(
+        name=name,
+        lower_rad=lower,
+        upper_rad=upper,
+        actuator=read_actuator(t),
+        spring=read_spring(t),
+        velocity_limit_rad_s=t.number("velocity_limit_rad_s", None, positive=True),
+        effort_limit_nm=t.number("effort_limit_nm", None, positive=True),
+    )
+    t.refuse_unknown()
+    return joint
+
+
+def read_segment(t: Table) -> Segment:
+    seg = Segment(
+        name=t.string("name"),
+        length_m=t.number("length_m", positive=True),
+        mass_kg=t.number("mass_kg", positive=True),
+        com_m=t.number("com_m"),
+        inertia_kgm2=t.number("inertia_kgm2", positive=True),
+    )
+    if not 0.0 <= seg.com_m <= seg.length_m:
+        raise RobotFileError(path=t.path, key=t.key("com_m"), expected=f"a value in [0, length_m = {seg.length_m:g}]", found=seg.com_m)
+    t.refuse_unknown()
+    return seg
+
+
+def robot_from_toml(doc: dict, path: str, sha256: str, *, extra_sections: tuple[str, ...] = ()) -> Robot:
+    """Build a Robot from a parsed native TOML document (``[robot]``, ``[[segments]]``, ``[joints]``)."""
+    top = Table(doc, path, "")
+    r = top.table("robot")
+    name = r.string("name")
+    body_mass = r.number("body_mass_kg", positive=True)
+    body_inertia = r.number("body_pitch_inertia_kgm2", positive=True)
+    knee = r.string("knee", choices=KNEE_BRANCHES)
+    mu = r.number("ground_friction", positive=True)
+    hip = (r.number("hip_offset_x_m", 0.0), r.number("hip_offset_z_m", 0.0))
+    r.refuse_unknown()
+
+    segs_raw = top.raw("segments")
+    if not isinstance(segs_raw, list) or not 2 <= len(segs_raw) <= 3:
+        raise RobotFileError(path=path, key="segments", expected="2 or 3 [[segments]] tables (hip to foot)",
+                             found=f"{len(segs_raw) if isinstance(segs_raw, list) else type(segs_raw).__name__}")
+    segments = tuple(read_segment(Table(s, path, f"segments[{i}]")) for i, s in enumerate(segs_raw))
+    names = [s.name for s in segments]
+    if len(set(names)) != len(names):
+        raise RobotFileError(path=path, key="segments", expected="unique segment names", found=names)
+
+    jt = top.table("joints")
+    if len(jt.data) != len(segments):
+        raise RobotFileError(path=path, key="joints", expected=f"{len(segments)} joint tables (one per segment)",
+                             found=f"{len(jt.data)} ({list(jt.data)})")
+    joints = []
+    for jname in jt.data:
+        jt.used.add(jname)
+        joints.append(read_joint(jname, jt.table(jname)))
+    for sec in extra_sections:
+        top.used.add(sec)
+    top.refuse_unknown()
+    return Robot(
+        name=name,
+        body_mass_kg=body_mass,
+        body_pitch_inertia_kgm2=body_inertia,
+        knee=knee,
+        ground_friction=mu,
+        segments=segments,
+        joints=tuple(joints),
+        source=path,
+        sha256=sha256,
+        hip_offset_m=hip,
+        warnings=tuple(w for j in joints for w in j.actuator.notes),
+    )
+
+
+def load_robot(path: str | Path) -> Robot:
+    """Load and validate a robot description file (native TOML)."""
+    data = read_bytes(path)
+    doc = parse_toml(data, str(path))
+    return robot_from_toml(doc, str(path), hashlib.sha256(data).hexdigest())
