@@ -82,7 +82,7 @@ class ReducedTrajectory:
 class Policy:
     """The open-loop policy shared by a plan's cases (for disturbance sweeps), SI units.
 
-    time_s: time since the start of the plan [s]
+    time_s: time since the most recent apex [s] (the policy restarts at every apex)
     actuator_length_m: leg actuator length over time [m]
     touchdown_angle_rad: leg angle the swing leg holds over time (retraction) [rad]
     """
@@ -94,7 +94,12 @@ class Policy:
 
 @dataclass(frozen=True, eq=False)
 class Plan:
-    """A plan file as read: its cases, where it came from and how it was scaled."""
+    """A plan file as read: its cases, where it came from and how it was scaled.
+
+    metadata: free key/value pairs from the file; metadata['model'] (when present) holds the
+    spring-mass parameters the plan was made with (e.g. stiffness_n_per_m, damping_n_s_per_m, mass_kg)
+    policy: the open-loop policy shared by all cases, when the file carries one (JSON plans)
+    """
 
     path: str
     sha256: str

@@ -144,6 +144,9 @@ class Robot:
     knee: 'backward' (knee behind the hip-foot line, knee angle < 0) or 'forward'
     ground_friction: Coulomb friction coefficient of the test surface [-]
     hip_offset_m: hip joint centre relative to the body centre of mass, (x, z) [m]
+    nominal_leg_length_m: l0 for scaling nondimensional plans, or None (then the plan must give it)
+    foot_pitch_rad: three-joint legs only: the world pitch the last segment holds (the rule that
+        resolves the redundancy in inverse kinematics); 0 = the last segment points straight down
     segments: hip to foot; empty for URDF legs (geometry then comes from the URDF)
     joints: hip, knee (and ankle), in chain order
     source, sha256: the description file and its SHA-256 (hex)
@@ -160,6 +163,8 @@ class Robot:
     source: str = ""
     sha256: str = ""
     hip_offset_m: tuple[float, float] = (0.0, 0.0)
+    nominal_leg_length_m: float | None = None
+    foot_pitch_rad: float = 0.0
     urdf: UrdfSource | None = None
     warnings: tuple[str, ...] = field(default=(), compare=False)
 
@@ -179,4 +184,10 @@ class Robot:
 
     @property
     def leg_mass_kg(self) -> float:
+        """Mass of the leg segments [kg] (0 for URDF legs; the Pinocchio model holds their inertia)."""
         return float(sum(s.mass_kg for s in self.segments))
+
+    @property
+    def total_mass_kg(self) -> float:
+        """Body plus leg [kg]: the mass a spring-mass plan of this robot should carry."""
+        return self.body_mass_kg + self.leg_mass_kg

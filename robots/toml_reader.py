@@ -3,7 +3,7 @@
 Layout (keys carry their unit; see robots/library/*.toml for complete, invented examples)::
 
     [robot]      name, body_mass_kg, body_pitch_inertia_kgm2, knee, ground_friction,
-                 optional hip_offset_x_m, hip_offset_z_m
+                 optional hip_offset_x_m, hip_offset_z_m, nominal_leg_length_m, foot_pitch_rad
     [[segments]] name, length_m, mass_kg, com_m, inertia_kgm2      (hip to foot, 2 or 3 of them)
     [joints.<name>]  lower_rad, upper_rad, actuator keys (robots.actuator_reader),
                  optional spring_stiffness_nm_per_rad, spring_damping_nms_per_rad
@@ -91,6 +91,8 @@ def robot_from_toml(doc: dict, path: str, sha256: str, *, extra_sections: tuple[
     knee = r.string("knee", choices=KNEE_BRANCHES)
     mu = r.number("ground_friction", positive=True)
     hip = (r.number("hip_offset_x_m", 0.0), r.number("hip_offset_z_m", 0.0))
+    l0 = r.number("nominal_leg_length_m", None, positive=True)
+    foot_pitch = r.number("foot_pitch_rad", 0.0)
     r.refuse_unknown()
 
     segs_raw = top.raw("segments")
@@ -124,6 +126,8 @@ def robot_from_toml(doc: dict, path: str, sha256: str, *, extra_sections: tuple[
         source=path,
         sha256=sha256,
         hip_offset_m=hip,
+        nominal_leg_length_m=l0,
+        foot_pitch_rad=foot_pitch,
         warnings=tuple(w for j in joints for w in j.actuator.notes),
     )
 
