@@ -34,3 +34,26 @@ def test_layers_import_one_way_only():
                     if parts[0] == "legbridge" and len(parts) > 1 and parts[1] != layer and parts[1] not in allowed:
                         bad.append(f"{py.relative_to(ROOT)} imports {n}")
     assert not bad, bad
+
+
+def _readme_commands():
+    import re
+
+    text = (ROOT / "README.md").read_text()
+    return re.findall(r"```sh\n(.*?)\n```", text, flags=re.S)
+
+
+def test_readme_opens_with_the_two_commands_and_ci_runs_the_test_one():
+    blocks = _readme_commands()
+    assert len(blocks) >= 2
+    main_cmd, test_cmd = blocks[0], blocks[1]
+    assert "legbridge review --demo" in main_cmd
+    # CI creates its own venv, then runs the README's install + test command verbatim.
+    install_and_test = test_cmd.split("&& ", 2)[-1]
+    assert install_and_test in (ROOT / ".ci" / "run").read_text()
+
+
+def test_readme_has_a_caution_section_and_never_calls_a_plan_safe():
+    text = (ROOT / "README.md").read_text().lower()
+    assert "## caution" in text
+    assert "never calls a plan safe" in text
