@@ -34,7 +34,7 @@ def test_two_node(write_robot):
     [
         (DC_ACTUATOR + "housing_thermal_resistance_k_per_w = 0.9\n", "housing_thermal_time_constant_s'.*needs both housing keys"),
         (DC_ACTUATOR + "housing_thermal_time_constant_s = 900.0\n", "housing_thermal_resistance_k_per_w'.*needs both housing keys"),
-        (TWO_NODE.replace("= 0.9", "= 0.0"), "housing_thermal_resistance_k_per_w'.*value > 0"),
+        (TWO_NODE.replace("housing_thermal_resistance_k_per_w = 0.9", "housing_thermal_resistance_k_per_w = 0.0"), "housing_thermal_resistance_k_per_w'.*value > 0"),
         (DC_ACTUATOR.replace("max_winding_temp_c = 120.0", "max_winding_temp_c = 20.0"), "max_winding_temp_c'.*above ambient_temp_c"),
         (DC_ACTUATOR.replace("thermal_time_constant_s = 60.0\n", ""), "thermal_time_constant_s'.*missing key"),
     ],
