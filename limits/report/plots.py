@@ -1,0 +1,332 @@
+"""Figures of the pre-test review, one function per figure (matplotlib, Agg canvas, no pyplot state).
+
+Every function returns a :class:`Figure`: the PNG bytes, the alternative text, and the spans it shaded
+(so tests and readers can see what was marked). Plots are meant to stay readable in print and in
+greyscale: every series has its own line style or marker, flagged spans are hatched as well as tinted.
+Units: time [s], joint angle [rad], joint speed [rad/s], joint torque [N m], force [N], temperature [degC].
+"""
+
+from __future__ import annotations
+
+import io
+from dataclasses import dataclass
+
+import numpy as np
+
+from legbridge.limits.results import SEVERITY_EXCEEDS, SEVERITY_NEAR
+
+# Our colours (print-friendly, distinct in greyscale by lightness as well as by hue).
+INK = "#1d2a36"
+PLAN = "#24527a"        # planned values
+ALT = "#8a5a00"         # second series / achievable values
+LIMIT = "#7a1f1f"       # limit lines and envelopes
+FILL_EXCEEDS = "#e8b4a8"
+FILL_NEAR = "#f1dca0"
+HATCH = {SEVERITY_EXCEEDS: "////", SEVERITY_NEAR: ".."}
+FILL = {SEVERITY_EXCEEDS: FILL_EXCEEDS, SEVERITY_NEAR: FILL_NEAR}
+LINESTYLES = ("-", "--", "-.", ":", (0, (5, 1, 1, 1, 1, 1)), (0, (1, 2)))
+MARKERS = ("o", "s", "^", "D", "v", "x", "+", "*")
+DPI = 96
+
+# Rows of the per-case joint figure: (key, label with unit)
+ROWS = (("angle", "angle [rad]"), ("speed", "speed [rad/s]"), ("torque", "torque [N m]"))
+
+
+@dataclass(frozen=True)
+class Shade:
+    """One span drawn shaded: which panel (joint, row), the time span [s] and the severity."""
+
+    joint: str
+    row: str
+    t_start_s: float
+    t_end_s: float
+    severity: str
+    limit: str
+
+
+@dataclass(frozen=True)
+class Figure:
+    """A rendered figure: PNG bytes, alternative text and the spans it shaded."""
+
+    name: str
+    png: bytes
+    alt: str
+    shaded: tuple[Shade, ...] = ()
+    notes: tuple[str, ...] = ()
+
+
+def row_for_limit(limit: str) -> str | None:
+    """Which row of the joint figure a limit belongs to ('angle', 'speed', 'torque'), None = all rows."""
+    s = limit.lower()
+    if any(k in s for k in ("range", "position", "angle", "stop")):
+        return "angle"
+    if any(k in s for k in ("speed", "velocity")):
+        return "speed"
+    if any(k in s for k in ("torque", "voltage", "current", "effort")):
+        return "torque"
+    return None
+
+
+def _new_figure(width_in: float, height_in: float):
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure as MplFigure
+
+    fig = MplFigure(figsize=(width_in, height_in), dpi=DPI, layout="constrained")
+    FigureCanvasAgg(fig)
+    return fig
+
+
+def _style_axes(ax) -> None:
+    ax.grid(True, color="#c9ced3", linewidth=0.6, linestyle="-")
+    ax.set_axisbelow(True)
+    ax.tick_params(labelsize=8, colors=INK)
+    for sp in ax.spines.values():
+        sp.set_color("#6b7680")
+    ax.xaxis.label.set_size(8.5)
+    ax.yaxis.label.set_size(8.5)
+    ax.title.set_size(9)
+
+
+def _png(fig) -> bytes:
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png", dpi=DPI, facecolor="white")
+    return buf.getvalue()
+
+
+def _shade_span(ax, t0: float, t1: float, severity: str, dt: float) -> None:
+    # A single-sample segment still gets a visible span: widen by half a sample on each side.
+    ax.axvspan(t0 - dt / 2, t1 + dt / 2, facecolor=FILL.get(severity, FILL_EXCEEDS), edgecolor=LIMIT,
+               hatch=HATCH.get(severity, "xx"), linewidth=0.0, alpha=0.55, zorder=0)
+
+
+def _legend_for_shading(fig, severities: set[str], extra=()) -> None:
+    from matplotlib.patches import Patch
+
+    handles = list(extra)
+    if SEVERITY_EXCEEDS in severities:
+        handles.append(Patch(facecolor=FILL_EXCEEDS, edgecolor=LIMIT, hatch=HATCH[SEVERITY_EXCEEDS], label="exceeds a limit"))
+    if SEVERITY_NEAR in severities:
+        handles.append(Patch(facecolor=FILL_NEAR, edgecolor=LIMIT, hatch=HATCH[SEVERITY_NEAR], label="near a limit"))
+    if handles:
+        fig.legend(handles=handles, loc="outside lower center", ncols=min(len(handles), 3), fontsize=7.5, frameon=False)
+
+
+def _dt(time_s: np.ndarray) -> float:
+    return float(np.median(np.diff(time_s))) if time_s.size > 1 else 0.0
+
+
+def case_joints_figure(review, robot) -> Figure:
+    """Joint angle, speed and torque of one case against time, with limit bands and flagged spans.
+
+    Rows: angle [rad] with the hard stops; speed [rad/s] with +-max_joint_speed; torque [N m] with
+    +-max_joint_torque (static peak) and the voltage-envelope torque bounds at the planned speed
+    (dashed). Columns: joints. Segments of the case are shaded in their joint's column (all columns
+    for whole-leg limits) and in the row of their limit (all rows when the limit has no row).
+    """
+    from legbridge.robots.actuator_limits import joint_torque_bounds_nm, max_joint_speed, max_joint_torque
+
+    traj = review.trajectory
+    t = np.asarray(traj.time_s, dtype=float)
+    names = tuple(traj.joint_names)
+    nj = len(names)
+    fig = _new_figure(2.9 * nj + 0.6, 5.6)
+    axes = fig.subplots(3, nj, sharex=True, squeeze=False)
+    dt = _dt(t)
+    shaded: list[Shade] = []
+    severities: set[str] = set()
+    for j, name in enumerate(names):
+        joint = robot.joint(name)
+        act = joint.actuator
+        series = {"angle": traj.q[:, j], "speed": traj.qd[:, j], "torque": traj.tau[:, j]}
+        vmax = max_joint_speed(joint).value
+        tmax = max_joint_torque(joint).value
+        lo_v, hi_v = joint_torque_bounds_nm(act, traj.qd[:, j], traj.qdd[:, j], voltage=True)
+        bands = {"angle": (joint.lower_rad, joint.upper_rad), "speed": (-vmax, vmax), "torque": (-tmax, tmax)}
+        for r, (key, label) in enumerate(ROWS):
+            ax = axes[r, j]
+            _style_axes(ax)
+            lo, hi = bands[key]
+            ax.axhline(lo, color=LIMIT, linewidth=1.1, linestyle="-")
+            ax.axhline(hi, color=LIMIT, linewidth=1.1, linestyle="-")
+            if key == "torque":
+                ax.plot(t, np.clip(hi_v, -10 * tmax, 10 * tmax), color=LIMIT, linewidth=0.9, linestyle="--")
+                ax.plot(t, np.clip(lo_v, -10 * tmax, 10 * tmax), color=LIMIT, linewidth=0.9, linestyle="--")
+            ax.plot(t, series[key], color=PLAN, linewidth=1.3)
+            span = max(hi - lo, float(np.nanmax(np.abs(series[key]))) if np.isfinite(series[key]).any() else 0.0)
+            y = series[key][np.isfinite(series[key])]
+            if key == "torque":  # the envelope lines are part of what the reader compares against
+                env = np.concatenate([hi_v, lo_v])
+                env = env[np.isfinite(env) & (np.abs(env) <= 1.5 * tmax)]
+                y = np.concatenate([y, env])
+            ylo = min(lo, float(y.min()) if y.size else lo)
+            yhi = max(hi, float(y.max()) if y.size else hi)
+            pad = 0.06 * (yhi - ylo if yhi > ylo else max(span, 1.0))
+            ax.set_ylim(ylo - pad, yhi + pad)
+            if j == 0:
+                ax.set_ylabel(label)
+            if r == 0:
+                ax.set_title(f"{name}")
+            if r == 2:
+                ax.set_xlabel("time [s]")
+    for seg in review.segments:
+        cols = range(nj) if not seg.joint else [names.index(seg.joint)] if seg.joint in names else range(nj)
+        row = row_for_limit(seg.limit)
+        rows = [i for i, (k, _) in enumerate(ROWS) if row is None or k == row]
+        for c in cols:
+            for r in rows:
+                _shade_span(axes[r, c], seg.t_start_s, seg.t_end_s, seg.severity, dt)
+                shaded.append(Shade(names[c], ROWS[r][0], float(seg.t_start_s), float(seg.t_end_s), seg.severity, seg.limit))
+        severities.add(seg.severity)
+    from matplotlib.lines import Line2D
+
+    extra = [
+        Line2D([], [], color=PLAN, linewidth=1.3, label="planned"),
+        Line2D([], [], color=LIMIT, linewidth=1.1, label="limit: stops, max speed, peak torque"),
+        Line2D([], [], color=LIMIT, linewidth=0.9, linestyle="--", label="torque bound at planned speed (voltage, current)"),
+    ]
+    _legend_for_shading(fig, severities, extra)
+    fig.suptitle(f"Case {review.case}: joint targets against the modelled limits", fontsize=10, color=INK)
+    alt = (f"Joint angle, speed and torque of case {review.case} against time for joints {', '.join(names)}, "
+           f"with limit lines; {len(review.segments)} flagged segment(s) shaded.")
+    return Figure(f"case-{review.case}-joints", _png(fig), alt, tuple(shaded))
+
+
+def _achievable_force(review) -> tuple[np.ndarray | None, str]:
+    """The force-feasibility QP's closest achievable ground force (n, 2) [N], or None and why."""
+    qp = getattr(review, "force_qp", None)
+    if qp is None:
+        return None, "the force-feasibility QP was not run for this case"
+    if not qp.ok:
+        return None, f"the force-feasibility QP did not solve (status '{qp.status}'); achievable force not shown"
+    for key in ("force_n", "achievable_force_n", "foot_force_n"):
+        val = qp.values.get(key)
+        if val is not None:
+            arr = np.asarray(val, dtype=float)
+            if arr.ndim == 2 and arr.shape[1] == 2:
+                return arr, ""
+    return None, f"the force-feasibility QP result holds no force array (keys {sorted(qp.values)})"
+
+
+def case_force_figure(review, robot, friction: float | None = None) -> Figure:
+    """Ground force of one case: planned (x, z) [N] against the QP's achievable force and the friction cone.
+
+    Whole-leg segments (joint '') and force or friction limits are shaded.
+    """
+    traj = review.trajectory
+    t = np.asarray(traj.time_s, dtype=float)
+    f = np.asarray(traj.foot_force_n, dtype=float)
+    mu = robot.ground_friction if friction is None else friction
+    ach, why = _achievable_force(review)
+    fig = _new_figure(7.2, 3.2)
+    ax_z, ax_x = fig.subplots(1, 2, sharex=True)
+    for ax in (ax_z, ax_x):
+        _style_axes(ax)
+        ax.set_xlabel("time [s]")
+    ax_z.plot(t, f[:, 1], color=PLAN, linewidth=1.4, label="planned")
+    ax_x.plot(t, f[:, 0], color=PLAN, linewidth=1.4, label="planned")
+    fz_pos = np.maximum(f[:, 1], 0.0)
+    ax_x.plot(t, mu * fz_pos, color=LIMIT, linewidth=1.0, linestyle="-", label=f"friction cone, mu = {mu:g}")
+    ax_x.plot(t, -mu * fz_pos, color=LIMIT, linewidth=1.0, linestyle="-")
+    if ach is not None and ach.shape[0] == t.shape[0]:
+        ax_z.plot(t, ach[:, 1], color=ALT, linewidth=1.2, linestyle="--", label="achievable (QP)")
+        ax_x.plot(t, ach[:, 0], color=ALT, linewidth=1.2, linestyle="--", label="achievable (QP)")
+    ax_z.set_ylabel("vertical force F_z [N]")
+    ax_x.set_ylabel("horizontal force F_x [N]")
+    ax_z.set_title("vertical", fontsize=9)
+    ax_x.set_title("horizontal", fontsize=9)
+    dt = _dt(t)
+    shaded: list[Shade] = []
+    severities: set[str] = set()
+    for seg in review.segments:
+        s = seg.limit.lower()
+        if seg.joint == "" or "force" in s or "friction" in s:
+            for ax, row in ((ax_z, "force_z"), (ax_x, "force_x")):
+                _shade_span(ax, seg.t_start_s, seg.t_end_s, seg.severity, dt)
+                shaded.append(Shade("", row, float(seg.t_start_s), float(seg.t_end_s), seg.severity, seg.limit))
+            severities.add(seg.severity)
+    handles, _ = ax_x.get_legend_handles_labels()
+    _legend_for_shading(fig, severities, handles)
+    fig.suptitle(f"Case {review.case}: ground force on the foot", fontsize=10, color=INK)
+    notes = (why,) if why else ()
+    alt = f"Planned ground force of case {review.case} against time, with the friction cone" + (
+        " and the achievable force from the QP." if not why else f"; {why}.")
+    return Figure(f"case-{review.case}-force", _png(fig), alt, tuple(shaded), notes)
+
+
+def torque_speed_figure(reviews, robot, joint_name: str) -> Figure:
+    """Torque-speed plane of one joint: voltage and current envelope, peak and continuous torque, every case.
+
+    x: joint speed [rad/s]; y: joint torque [N m]. The envelope is robots.actuator_limits.envelope_polygon
+    (steady speed: the rotor-inertia term is not in it); each case's samples are drawn with their own marker.
+    """
+    from legbridge.robots.actuator_limits import continuous_joint_torque_nm, envelope_polygon, max_joint_torque
+
+    joint = robot.joint(joint_name)
+    act = joint.actuator
+    fig = _new_figure(5.6, 4.0)
+    ax = fig.subplots()
+    _style_axes(ax)
+    sp, tq = envelope_polygon(act)
+    ax.fill(sp, tq, facecolor="#eef1f4", edgecolor="none", zorder=0)
+    ax.plot(sp, tq, color=LIMIT, linewidth=1.4, label="voltage and current envelope")
+    tmax = max_joint_torque(joint).value
+    tcont = continuous_joint_torque_nm(act)
+    for s in (1, -1):
+        ax.axhline(s * tmax, color=LIMIT, linewidth=0.9, linestyle="--", label="peak torque" if s > 0 else None)
+        ax.axhline(s * tcont, color=INK, linewidth=0.9, linestyle=":", label="continuous torque" if s > 0 else None)
+    for k, rv in enumerate(reviews):
+        traj = rv.trajectory
+        if joint_name not in traj.joint_names:
+            continue
+        j = list(traj.joint_names).index(joint_name)
+        step = max(1, traj.n_samples // 600)  # a few hundred points per case are enough to see the shape
+        ax.plot(traj.qd[::step, j], traj.tau[::step, j], linestyle="none", marker=MARKERS[k % len(MARKERS)],
+                markersize=3.2, markerfacecolor="none", markeredgewidth=0.8,
+                color=(PLAN, ALT, INK, "#4f7d4f")[k % 4], label=f"case {rv.case}")
+    ax.set_xlabel("joint speed [rad/s]")
+    ax.set_ylabel("joint torque [N m]")
+    ax.set_title(f"{joint_name}: torque-speed plane", color=INK)
+    fig.legend(loc="outside right center", fontsize=7.5, frameon=False)
+    alt = f"Torque against speed of joint {joint_name} for every case, inside the motor's voltage and current envelope."
+    return Figure(f"joint-{joint_name}-torque-speed", _png(fig), alt)
+
+
+def thermal_figure(reviews, robot, duration_s: float | None) -> Figure:
+    """Winding temperature [degC] of every joint over the test duration [s], against its limit.
+
+    One panel per joint; one line style per case. Cases without a thermal result are listed in notes.
+    """
+    names = robot.joint_names
+    nj = len(names)
+    fig = _new_figure(2.9 * nj + 0.6, 3.0)
+    axes = fig.subplots(1, nj, squeeze=False)[0]
+    notes: list[str] = []
+    for j, name in enumerate(names):
+        ax = axes[j]
+        _style_axes(ax)
+        th = robot.joint(name).actuator.thermal
+        ax.axhline(th.max_winding_temp_c, color=LIMIT, linewidth=1.2, label="winding limit" if j == 0 else None)
+        ax.axhline(th.ambient_temp_c, color="#6b7680", linewidth=0.8, linestyle=":", label="ambient" if j == 0 else None)
+        for k, rv in enumerate(reviews):
+            temp = getattr(rv, "winding_temp_c", None)
+            tt = getattr(rv, "thermal_time_s", None)
+            if temp is None or tt is None:
+                if j == 0:
+                    notes.append(f"case {rv.case}: winding temperature was not computed")
+                continue
+            temp = np.asarray(temp, dtype=float)
+            col = temp if temp.ndim == 1 else temp[:, list(rv.trajectory.joint_names).index(name)] if name in rv.trajectory.joint_names else None
+            if col is None:
+                continue
+            ax.plot(np.asarray(tt, dtype=float), col, color=(PLAN, ALT, INK, "#4f7d4f")[k % 4],
+                    linestyle=LINESTYLES[k % len(LINESTYLES)], linewidth=1.3, label=f"case {rv.case}" if j == 0 else None)
+        ax.set_title(name)
+        ax.set_xlabel("time [s]")
+        if j == 0:
+            ax.set_ylabel("winding temperature [degC]")
+        if duration_s:
+            ax.set_xlim(0.0, duration_s)
+    fig.legend(loc="outside lower center", ncols=4, fontsize=7.5, frameon=False)
+    fig.suptitle("Winding temperature over the test duration", fontsize=10, color=INK)
+    alt = "Winding temperature of each joint against time over the test duration, with its limit."
+    return Figure("thermal", _png(fig), alt, (), tuple(notes))

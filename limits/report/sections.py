@@ -1,0 +1,228 @@
+"""The HTML fragments of the report, one function per section, in report order.
+
+Every function returns a string of HTML (escaped); section ids are stable (SECTION_IDS) so tests and
+links can find them. Units appear in every column header.
+"""
+
+from __future__ import annotations
+
+import base64
+import math
+import os
+import re
+from html import escape
+
+from legbridge.limits.cautions import CAUTIONS
+
+from . import plots
+from .summary import SEVERITY_WORDS, VERDICT_CLASS, joint_label, ranked, verdict_words, worst_of
+
+SECTION_IDS = ("caution-and-identity", "verdicts", "cases", "torque-speed", "thermal", "segments", "sign-off")
+
+SIGNOFF_ITEMS = (
+    "The emergency stop has been tested on this robot today and cuts power to every joint of the leg.",
+    "Guarding or a tether is in place and keeps the robot within the test area.",
+    "Drive current limits are set at or below the reviewed values listed above, on every drive.",
+    "The first run is at reduced amplitude (or speed) and the results were looked at before going further.",
+    "Everybody is clear of the robot's reach and knows who may stop the test.",
+    "The points above follow the lab's own safety rules; where those rules ask for more, they apply.",
+)
+
+
+def slug(text: str) -> str:
+    """A stable id fragment for a case or joint name."""
+    s = re.sub(r"[^A-Za-z0-9_-]+", "-", str(text)).strip("-")
+    return s or "x"
+
+
+def num(x, fmt: str = ".4g") -> str:
+    if x is None:
+        return "&ndash;"
+    x = float(x)
+    if math.isnan(x):
+        return "not evaluated"
+    if math.isinf(x):
+        return "&infin;" if x > 0 else "&minus;&infin;"
+    return format(x, fmt)
+
+
+def pct(u) -> str:
+    if u is None or (isinstance(u, float) and math.isnan(u)):
+        return "not evaluated"
+    return f"{100.0 * float(u):.1f}&nbsp;%"
+
+
+def img(fig: plots.Figure) -> str:
+    data = base64.b64encode(fig.png).decode("ascii")
+    return f'<img src="data:image/png;base64,{data}" alt="{escape(fig.alt)}">'
+
+
+def figure(fig: plots.Figure, caption: str) -> str:
+    notes = "".join(f'<p class="note">{escape(n)}</p>' for n in fig.notes)
+    return f'<figure id="fig-{slug(fig.name)}">{img(fig)}<figcaption>{caption}</figcaption></figure>{notes}'
+
+
+def _row(cells, header=False) -> str:
+    tag = "th" if header else "td"
+    out = []
+    for c in cells:
+        if isinstance(c, tuple):  # (html, css class)
+            out.append(f'<{tag} class="{c[1]}">{c[0]}</{tag}>')
+        else:
+            out.append(f"<{tag}>{c}</{tag}>")
+    return "<tr>" + "".join(out) + "</tr>"
+
+
+def caution_identity(plan, robot, settings, *, version: str, created: str) -> str:
+    """Section 1: caution text and the identity of what was reviewed."""
+    caution = "".join(f"<p><strong>CAUTION.</strong> {escape(p)}</p>" for p in CAUTIONS)
+    duration = (f"{settings.duration_s:g} s (plan repeated)" if settings.duration_s else
+                f"one plan period ({max(c.duration_s for c in plan.cases):.4g} s)" if plan.cases else "one plan period")
+    mu = settings.friction if settings.friction is not None else robot.ground_friction
+    rows = [
+        ("Plan file", f"{escape(os.path.basename(plan.path) or plan.path)}<br><span class='small'>{escape(str(plan.path))}</span>"),
+        ("Plan SHA-256", f"<span class='hash'>{escape(plan.sha256)}</span>"),
+        ("Robot", escape(robot.name)),
+        ("Robot file", f"{escape(os.path.basename(robot.source) or robot.source or 'in memory')}<br><span class='small'>{escape(str(robot.source))}</span>"),
+        ("Robot SHA-256", f"<span class='hash'>{escape(robot.sha256)}</span>"),
+        ("Cases", f"{len(plan.cases)}: {escape(', '.join(plan.case_names))}"),
+        ("legbridge version", escape(version)),
+        ("Reviewed at", escape(created)),
+        ("Export and check rate", f"{settings.rate_hz:g} Hz"),
+        ("Test duration (thermal)", escape(duration)),
+        ("Near-limit margin", f"{100 * settings.margin:g} % below each limit"),
+        ("Ground friction coefficient", f"{mu:g} [-] ({'command line' if settings.friction is not None else 'robot file'})"),
+    ]
+    if getattr(settings, "supply_power_w", None) is not None:
+        rows.append(("Supply power limit", f"{settings.supply_power_w:g} W"))
+    if getattr(settings, "regen_energy_j", None) is not None:
+        rows.append(("Regenerated energy limit", f"{settings.regen_energy_j:g} J"))
+    sc = plan.scaling
+    if sc is not None:
+        rows.append(("Scaling (nondimensional plan)",
+                     f"l0 = {sc.length_m:g} m, mass = {sc.mass_kg:g} kg, g = {sc.gravity_m_s2:g} m/s&sup2;; "
+                     f"time unit {sc.time_s:.4g} s, force unit {sc.force_n:.4g} N; from {escape(sc.source)}"))
+    else:
+        rows.append(("Scaling", "plan in SI units (no scaling)"))
+    for key in ("description", "note", "source"):
+        if key in plan.metadata and isinstance(plan.metadata[key], str):
+            rows.append((f"Plan {key}", escape(plan.metadata[key])))
+    table = "".join(f"<tr><th>{k}</th><td>{v}</td></tr>" for k, v in rows)
+    warn = "".join(f'<p class="note">Robot file note: {escape(w)}</p>' for w in robot.warnings)
+    return (f'<section id="caution-and-identity"><h2>1. Caution and what was reviewed</h2>'
+            f'<div class="caution">{caution}</div><table class="identity">{table}</table>{warn}</section>')
+
+
+def verdicts(reviews) -> str:
+    """Section 2: per-case verdict table, worst limit and utilisation, and the ranking."""
+    head = _row(["Case", "Ground height [m]", "Verdict", "Worst limit", "Joint", ("Utilisation [%]", "num"),
+                 ("Segments flagged [-]", "num"), "Could not be evaluated"], header=True)
+    body = []
+    for r in reviews:
+        v = verdict_words(r)
+        w = worst_of(r)
+        findings = "<br>".join(escape(f) for f in r.findings) or "&ndash;"
+        body.append(_row([
+            f'<a href="#case-{slug(r.case)}">{escape(r.case)}</a>', (num(r.ground_height_m), "num"),
+            (escape(v), f"verdict {VERDICT_CLASS[v]}"),
+            escape(w.limit) if w else "not evaluated", escape(joint_label(w.joint)) if w else "&ndash;",
+            (pct(w.utilisation) if w else "not evaluated", "num"), (str(len(r.segments)), "num"), findings,
+        ]))
+    order = "".join(f"<li>{escape(r.case)}: {escape(verdict_words(r))}"
+                    f"{', worst ' + escape(worst_of(r).limit) + ' at ' + pct(worst_of(r).utilisation) if worst_of(r) else ''}</li>"
+                    for r in ranked(reviews))
+    return (f'<section id="verdicts"><h2>2. Verdict per case</h2>'
+            f'<p>Utilisation is the planned value divided by the allowed value at the same sample (100 % = at the limit). '
+            f'"Near" means within the margin below a limit. A case that could not be fully evaluated is not counted as within the limits.</p>'
+            f'<table class="verdicts">{head}{"".join(body)}</table>'
+            f'<h3>Ranking, worst case first</h3><ol class="ranking">{order}</ol></section>')
+
+
+def cases(reviews, robot, settings) -> str:
+    """Section 3: per case, the joint figure and the ground-force figure."""
+    parts = ['<section id="cases"><h2>3. Cases over time</h2>']
+    for r in reviews:
+        fj = plots.case_joints_figure(r, robot)
+        ff = plots.case_force_figure(r, robot, settings.friction)
+        findings = "".join(f'<p class="finding">Could not be evaluated: {escape(f)}</p>' for f in r.findings)
+        parts.append(
+            f'<article class="case" id="case-{slug(r.case)}"><h3>Case {escape(r.case)} '
+            f'(ground height {num(r.ground_height_m)} m): {escape(verdict_words(r))}</h3>{findings}'
+            + figure(fj, "Joint angle [rad], speed [rad/s] and torque [N m] against time [s]. Solid dark-red lines: hard stops, "
+                     "maximum joint speed and peak torque; dashed: torque the voltage envelope allows at the planned speed. "
+                     "Hatched spans: flagged segments (diagonal = exceeds, dotted = near).")
+            + figure(ff, "Ground force on the foot [N] against time [s]: planned (solid), the closest achievable force found by the "
+                     "force-feasibility QP (dashed) and the friction cone bound &plusmn;&mu;F<sub>z</sub>.")
+            + "</article>")
+    parts.append("</section>")
+    return "".join(parts)
+
+
+def torque_speed(reviews, robot) -> str:
+    """Section 4: per joint, the torque-speed plane with the envelope and every case."""
+    from legbridge.robots.actuator_limits import max_joint_speed, max_joint_torque
+
+    parts = ['<section id="torque-speed"><h2>4. Torque-speed plane per joint</h2>']
+    for j in robot.joints:
+        f = plots.torque_speed_figure(reviews, robot, j.name)
+        ms, mt = max_joint_speed(j), max_joint_torque(j)
+        parts.append(f'<h3 id="joint-{slug(j.name)}">Joint {escape(j.name)}</h3>' + figure(
+            f, f"Joint torque [N m] against joint speed [rad/s]. Solid outline: the voltage and drive-current envelope at steady "
+               f"speed (rotor inertia not included); dashed: peak torque {mt.value:.4g} N m ({escape(mt.source)}); dotted: "
+               f"continuous torque. Maximum joint speed {ms.value:.4g} rad/s ({escape(ms.source)}). One marker per case."))
+    parts.append("</section>")
+    return "".join(parts)
+
+
+def thermal(reviews, robot, settings) -> str:
+    """Section 5: winding temperature over the test duration against its limit."""
+    f = plots.thermal_figure(reviews, robot, settings.duration_s)
+    head = _row(["Case"] + [(f"{escape(j)}: time to limit [s]", "num") for j in robot.joint_names], header=True)
+    body = []
+    for r in reviews:
+        ttl = getattr(r, "time_to_temp_limit_s", None) or {}
+        cells = []
+        for j in robot.joint_names:
+            v = ttl.get(j)
+            cells.append(("not reached" if v is None or (isinstance(v, float) and math.isinf(v)) else num(v), "num"))
+        body.append(_row([escape(r.case)] + cells))
+    return (f'<section id="thermal"><h2>5. Winding temperature over the test</h2>'
+            + figure(f, "Winding temperature [&deg;C] against time [s] over the test duration; solid dark-red line: the winding "
+                        "limit, dotted: ambient. One line style per case.")
+            + f'<table>{head}{"".join(body)}</table></section>')
+
+
+def segments(reviews) -> str:
+    """Section 6: every flagged segment of every case."""
+    head = _row(["Case", "Joint", "Limit", "Severity", ("Start [s]", "num"), ("End [s]", "num"), ("Peak", "num"),
+                 ("Allowed", "num"), "Unit", ("Utilisation [%]", "num")], header=True)
+    segs = sorted((s for r in reviews for s in r.segments), key=lambda s: (s.case, s.t_start_s, s.joint, s.limit))
+    body = "".join(_row([
+        escape(s.case), escape(joint_label(s.joint)), escape(s.limit),
+        (escape(SEVERITY_WORDS.get(s.severity, s.severity)), "verdict " + ("v-exceeds" if s.severity == "exceeds" else "v-near")),
+        (num(s.t_start_s, ".4f"), "num"), (num(s.t_end_s, ".4f"), "num"), (num(s.peak), "num"), (num(s.allowed), "num"),
+        escape(s.unit), (pct(s.utilisation), "num")]) for s in segs)
+    empty = "" if segs else "<p>No segment of any case is near or beyond a modelled limit.</p>"
+    return (f'<section id="segments"><h2>6. Flagged segments</h2>{empty}'
+            f'<table class="segments">{head}{body}</table></section>')
+
+
+def signoff(robot) -> str:
+    """Section 7: the reviewed drive values, a generic checklist deferring to the lab's rules, blanks to sign."""
+    from legbridge.robots.actuator_limits import max_joint_speed, max_joint_torque
+
+    head = _row(["Joint", ("Peak current [A]", "num"), ("Continuous current [A]", "num"), ("Drive voltage [V]", "num"),
+                 ("Peak torque [N m]", "num"), ("Max joint speed [rad/s]", "num"), ("Range [rad]", "num")], header=True)
+    body = "".join(_row([
+        escape(j.name), (num(j.actuator.peak_current_a), "num"), (num(j.actuator.continuous_current_a), "num"),
+        (num(j.actuator.max_voltage_v), "num"), (num(max_joint_torque(j).value), "num"),
+        (num(max_joint_speed(j).value), "num"), (f"{j.lower_rad:.4g} to {j.upper_rad:.4g}", "num")]) for j in robot.joints)
+    items = "".join(f"<li>{escape(i)}</li>" for i in SIGNOFF_ITEMS)
+    blanks = "".join(_row([role, "", "", ""]) for role in ("Prepared by", "Checked by", "Person responsible for the test"))
+    return (f'<section id="sign-off"><h2>7. Sign-off before the test</h2>'
+            f'<p>The values this review assumed for each drive (set the drives at or below them):</p>'
+            f'<table>{head}{body}</table>'
+            f'<p>Generic reminders only. The lab\'s own safety rules and the person responsible for the test decide what is '
+            f'required; tick an item only when it has been done.</p><ul class="checklist">{items}</ul>'
+            f'<table class="signoff">{_row(["Role", "Name", "Signature", "Date"], header=True)}{blanks}</table>'
+            f'<p>Remarks:</p><div style="border:1px solid #c9ced3; height:5rem"></div></section>')
