@@ -1,0 +1,168 @@
+"""Phase-aware resampling of a reduced-order case to the controller rate.
+
+Each contiguous run of plan samples with the same phase (stance or flight) is one *segment*. Every
+segment is interpolated on its own with a shape-preserving piecewise-cubic Hermite interpolant
+(scipy.interpolate.PchipInterpolator, Fritsch-Carlson slopes), which creates no new extrema between
+plan samples; no interpolant ever spans a touchdown or a liftoff. Derivatives (rates and second
+derivatives) are the interpolants' analytic derivatives, not finite differences.
+
+Gap rule (samples between two segments). The new time grid is t0 + k / rate. A grid sample that
+falls strictly between the last plan sample of one phase (t_i) and the first plan sample of the next
+phase (t_{i+1}) belongs to the *earlier* segment: the phase of the plan holds until a plan sample
+shows the other phase (sample-and-hold of the phase flag). Its values come from the earlier
+segment's cubic on its last interval, continued past t_i (at most one plan interval). A segment of a
+single plan sample holds that sample's values with zero rates. Grid samples that coincide with a
+plan sample take that sample's phase.
+
+Times [s], lengths [m], angles [rad], forces [N]; arrays shaped (n,).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from scipy.interpolate import PchipInterpolator
+
+from legbridge.robots.errors import LegbridgeError
+
+from .plan import ReducedTrajectory, frozen_array
+
+
+class ResampleError(LegbridgeError, ValueError):
+    """A case cannot be resampled (too few samples, time not increasing, bad rate)."""
+
+
+@dataclass(frozen=True, eq=False)
+class Channel:
+    """One resampled quantity and its first two time derivatives (analytic, per segment)."""
+
+    value: np.ndarray
+    rate: np.ndarray
+    accel: np.ndarray
+
+
+@dataclass(frozen=True, eq=False)
+class ResampledCase:
+    """A case on the controller's time grid.
+
+    time_s (n,) [s]; stance (n,) bool; segment (n,) int index of the plan segment each sample
+    belongs to; leg_length, leg_angle: Channel [m, m/s, m/s^2] / [rad, rad/s, rad/s^2];
+    force_x_n, force_z_n (n,) [N]; body_x, body_z: Channel or None (position from the plan, rate and
+    acceleration from the velocity columns when given, otherwise from the position interpolant).
+    """
+
+    time_s: np.ndarray
+    stance: np.ndarray
+    segment: np.ndarray
+    leg_length: Channel
+    leg_angle: Channel
+    force_x_n: np.ndarray
+    force_z_n: np.ndarray
+    body_x: Channel | None
+    body_z: Channel | None
+
+    @property
+    def n_samples(self) -> int:
+        return int(self.time_s.shape[0])
+
+
+def time_grid(t0: float, t1: float, rate_hz: float) -> np.ndarray:
+    """Grid t0 + k / rate_hz for k = 0 .. floor((t1 - t0) rate_hz) (end included when on the grid) [s]."""
+    n = int(np.floor((t1 - t0) * rate_hz + 1e-9)) + 1
+    return t0 + np.arange(n) / rate_hz
+
+
+def segment_bounds(stance: np.ndarray) -> list[tuple[int, int]]:
+    """Index ranges [start, stop) of contiguous runs of equal phase in a plan's stance flags."""
+    s = np.asarray(stance, dtype=bool)
+    cuts = np.flatnonzero(s[1:] != s[:-1]) + 1
+    starts = np.concatenate([[0], cuts])
+    stops = np.concatenate([cuts, [s.shape[0]]])
+    return list(zip(starts.tolist(), stops.tolist()))
+
+
+def assign_segments(t_plan: np.ndarray, bounds: list[tuple[int, int]], t_new: np.ndarray) -> np.ndarray:
+    """Segment index of each new sample: the last segment whose first plan sample is at or before it."""
+    starts = t_plan[[b[0] for b in bounds]]
+    return np.searchsorted(starts, t_new, side="right") - 1
+
+
+def _pchip_channel(t: np.ndarray, y: np.ndarray, tq: np.ndarray, seg_new: np.ndarray,
+                   bounds: list[tuple[int, int]], yd: np.ndarray | None = None) -> Channel:
+    """Per-segment PCHIP of y (and, when ``yd`` is given, rate and acceleration from PCHIP of yd)."""
+    val = np.empty_like(tq)
+    rate = np.empty_like(tq)
+    acc = np.empty_like(tq)
+    for k, (a, b) in enumerate(bounds):
+        sel = seg_new == k
+        if not sel.any():
+            continue
+        ts = tq[sel]
+        if b - a == 1:
+            val[sel] = y[a]
+            rate[sel] = 0.0 if yd is None else yd[a]
+            acc[sel] = 0.0
+            continue
+        p = PchipInterpolator(t[a:b], y[a:b], extrapolate=True)
+        val[sel] = p(ts)
+        if yd is None:
+            rate[sel] = p(ts, 1)
+            acc[sel] = p(ts, 2)
+        else:
+            pv = PchipInterpolator(t[a:b], yd[a:b], extrapolate=True)
+            rate[sel] = pv(ts)
+            acc[sel] = pv(ts, 1)
+    return Channel(frozen_array(val), frozen_array(rate), frozen_array(acc))
+
+
+def _body_channel(ch, pos, vel, t):
+    """Body motion along one axis: None when the plan gives neither position nor velocity.
+
+    With only the velocity given, the position channel is 0 (the dynamics of a translating base do
+    not depend on where it is; only its acceleration enters).
+    """
+    if pos is None and vel is None:
+        return None
+    if pos is None:
+        c = ch(np.zeros_like(t), vel)
+        return c
+    return ch(pos, vel)
+
+
+def resample_case(case: ReducedTrajectory, rate_hz: float) -> ResampledCase:
+    """Resample one case to ``rate_hz`` [Hz], phase-aware (see the module docstring for the gap rule)."""
+    if not np.isfinite(rate_hz) or rate_hz <= 0.0:
+        raise ResampleError("bad controller rate", key="rate_hz", expected="a positive finite rate in Hz", found=rate_hz)
+    t = np.asarray(case.time_s, dtype=float)
+    if t.shape[0] < 2:
+        raise ResampleError(f"case '{case.name}' is too short", key="time_s", expected="at least 2 samples", found=t.shape[0])
+    dt = np.diff(t)
+    if not np.all(dt > 0.0):
+        row = int(np.flatnonzero(~(dt > 0.0))[0]) + 1
+        raise ResampleError(f"case '{case.name}': time must increase", key="time_s", row=row,
+                            expected=f"a time above {t[row - 1]:g} s", found=float(t[row]))
+    bounds = segment_bounds(case.stance)
+    tq = time_grid(float(t[0]), float(t[-1]), rate_hz)
+    seg = assign_segments(t, bounds, tq)
+    stance_seg = np.array([bool(case.stance[a]) for a, _ in bounds])
+
+    def ch(y, yd=None):
+        return _pchip_channel(t, np.asarray(y, dtype=float), tq, seg, bounds,
+                              None if yd is None else np.asarray(yd, dtype=float))
+
+    fx = ch(case.force_x_n).value
+    fz = ch(case.force_z_n).value
+    body_x = _body_channel(ch, case.body_x_m, case.body_vx_m_s, t)
+    body_z = _body_channel(ch, case.body_z_m, case.body_vz_m_s, t)
+    return ResampledCase(
+        time_s=frozen_array(tq),
+        stance=frozen_array(stance_seg[seg], dtype=bool),
+        segment=frozen_array(seg, dtype=int),
+        leg_length=ch(case.leg_length_m),
+        leg_angle=ch(case.leg_angle_rad),
+        force_x_n=fx,
+        force_z_n=fz,
+        body_x=body_x,
+        body_z=body_z,
+    )

@@ -1,0 +1,215 @@
+"""translate(): one reduced-order case -> joint-space targets at the controller rate.
+
+Steps (each in its own module): phase-aware resampling (mapping.resample), the leg vector and its
+analytic rates (mapping.kinematics), inverse kinematics (mapping.ik), joint rates from the Jacobian
+(qd = A^-1 r_dot, qdd = A^-1 (r_ddot - J_dot qd); A = J for two joints, J augmented with the foot
+pitch row (1, 1, 1) for three), inverse dynamics on the planar floating base (mapping.dynamics) and
+the motor side (mapping.motor_side).
+
+Base motion. The base pitch is 0 (point-mass plan); the hip is at the base (body centre of mass)
+plus robot.hip_offset_m. Along each axis where the plan gives the body motion (body_x_m / body_vx_m_s,
+body_z_m / body_vz_m_s) it is used, its acceleration from the interpolant's derivative; otherwise the
+point-mass law gives the acceleration: a_body = F / m_total + g in stance (m_total =
+robot.total_mass_kg), a_body = g in flight (ballistic).
+
+Ground force. The plan's force is applied in stance samples only; flight samples get F = 0 (the foot
+is off the ground), and foot_force_n holds the force actually applied.
+
+Straight chains (native TOML legs: every segment along -z from its joint, all joints about y) use
+the closed-form, vectorised kinematics; any other geometry (URDF legs with offsets) uses damped
+least squares and Pinocchio Jacobians per sample.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pinocchio as pin
+
+from legbridge.robots.leg_model import LegModel, build_leg_model
+from legbridge.robots.robot import Robot
+
+from .dynamics import foot_force_local, inverse_dynamics, rotation_y
+from .ik import SINGULAR_TOL, chain_ik, dls_ik, solve_rates
+from .joint_trajectory import FLAG_NONFINITE, FLAG_SINGULAR, JointTrajectory
+from .kinematics import chain_foot, chain_jacobian, chain_jdot_qd, leg_vector, leg_vector_rates, segment_pitch
+from .motor_side import motor_side
+from .plan import Plan, ReducedTrajectory, frozen_array
+from .resample import ResampledCase, resample_case
+
+
+def is_straight_chain(leg: LegModel, tol: float = 1e-9) -> bool:
+    """True when the Pinocchio model matches the straight serial chain on leg.link_lengths_m.
+
+    Checked at a few fixed configurations: the foot relative to the hip, and the foot's parent joint
+    orientation Ry(q1 + ... + qj).
+    """
+    if leg.n_joints not in (2, 3):
+        return False
+    model = leg.model
+    data = model.createData()
+    parent = model.frames[leg.foot_frame_id].parentJoint
+    for k in range(3):
+        q = np.array([0.3 * (k + 1), -0.7 * (k + 1) / 2, 0.4][: leg.n_joints])
+        qf = leg.full_q(np.zeros(3), q)
+        pin.framesForwardKinematics(model, data, qf)
+        rel = data.oMf[leg.foot_frame_id].translation - data.oMf[leg.hip_frame_id].translation
+        ref = chain_foot(q[None], leg.link_lengths_m)[0]
+        if abs(rel[1]) > tol or np.max(np.abs(rel[[0, 2]] - ref)) > tol:
+            return False
+        if np.max(np.abs(data.oMi[parent].rotation - rotation_y(np.array([q.sum()]))[0])) > tol:
+            return False
+    return True
+
+
+def _augment(jac: np.ndarray) -> np.ndarray:
+    """Add the last-segment pitch row (1, ..., 1) to x/z Jacobians (n, 2, j) -> (n, 3, j)."""
+    ones = np.ones((jac.shape[0], 1, jac.shape[2]))
+    return np.concatenate([jac, ones], axis=1)
+
+
+def _general_kinematics(leg: LegModel, q: np.ndarray):
+    """Per-sample Pinocchio foot Jacobian (x, z rows, leg columns) and parent-joint rotation."""
+    model = leg.model
+    data = model.createData()
+    parent = model.frames[leg.foot_frame_id].parentJoint
+    n = q.shape[0]
+    jac = np.empty((n, 2, leg.n_joints))
+    rot = np.empty((n, 3, 3))
+    qf = pin.neutral(model)
+    for i in range(n):
+        qf[leg.q_index] = q[i]
+        pin.framesForwardKinematics(model, data, qf)
+        jac[i] = pin.computeFrameJacobian(model, data, qf, leg.foot_frame_id, pin.LOCAL_WORLD_ALIGNED)[[0, 2]][:, leg.v_index]
+        rot[i] = data.oMi[parent].rotation
+    return jac, rot
+
+
+def _general_jdot_qd(leg: LegModel, q: np.ndarray, qd: np.ndarray) -> np.ndarray:
+    """Per-sample J_dot qd of the foot point (x, z) from Pinocchio's classical acceleration at qdd = 0."""
+    model = leg.model
+    data = model.createData()
+    n = q.shape[0]
+    out = np.empty((n, 2))
+    qf, vf, af = pin.neutral(model), np.zeros(model.nv), np.zeros(model.nv)
+    for i in range(n):
+        qf[leg.q_index] = q[i]
+        vf[leg.v_index] = qd[i]
+        pin.forwardKinematics(model, data, qf, vf, af)
+        out[i] = pin.getFrameClassicalAcceleration(model, data, leg.foot_frame_id, pin.LOCAL_WORLD_ALIGNED).linear[[0, 2]]
+    return out
+
+
+def _base_axis(channel, force, stance, gravity, m_total):
+    """(position, velocity, acceleration) of the base along one axis (see the module docstring)."""
+    if channel is not None:
+        return channel.value, channel.rate, channel.accel
+    n = force.shape[0]
+    acc = np.where(stance, force / m_total + gravity, gravity)
+    return np.zeros(n), np.zeros(n), acc
+
+
+def translate_resampled(rs: ResampledCase, robot: Robot, leg: LegModel, *, name: str = "",
+                        ground_height_m: float = 0.0, rate_hz: float = 1000.0) -> JointTrajectory:
+    """translate() on a case already on the controller grid."""
+    n, nj = rs.n_samples, leg.n_joints
+    lengths = leg.link_lengths_m
+    ll, la = rs.leg_length, rs.leg_angle
+    r = leg_vector(ll.value, la.value)
+    rd, rdd = leg_vector_rates(ll.value, ll.rate, ll.accel, la.value, la.rate, la.accel)
+    straight = is_straight_chain(leg)
+
+    if straight:
+        sol = chain_ik(r, lengths, robot.knee, robot.foot_pitch_rad)
+        q, flags = sol.q, sol.flags.copy()
+        jac = chain_jacobian(q, lengths)
+        rot = rotation_y(segment_pitch(q)[:, -1])
+    else:
+        sol = dls_ik(leg, r, knee=robot.knee, foot_pitch_rad=robot.foot_pitch_rad)
+        q, flags = sol.q, sol.flags.copy()
+        jac, rot = _general_kinematics(leg, q)
+
+    a_mat = _augment(jac) if nj == 3 else jac
+    pad = np.zeros((n, a_mat.shape[1] - 2))
+    det = np.abs(np.linalg.det(a_mat)) / (lengths[0] * lengths[1])
+    flags |= np.where(det < SINGULAR_TOL, FLAG_SINGULAR, 0)
+    singular = (flags & FLAG_SINGULAR) != 0
+    qd = solve_rates(a_mat, np.hstack([rd, pad]), singular, lengths[0])
+    jdq = chain_jdot_qd(q, qd, lengths) if straight else _general_jdot_qd(leg, q, qd)
+    qdd = solve_rates(a_mat, np.hstack([rdd - jdq, pad]), singular, lengths[0])
+
+    # ground force (stance only) and base motion
+    stance = np.asarray(rs.stance, dtype=bool)
+    force = np.where(stance[:, None], np.column_stack([rs.force_x_n, rs.force_z_n]), 0.0)
+    g = leg.model.gravity.linear
+    m_total = robot.total_mass_kg
+    bx = _base_axis(rs.body_x, force[:, 0], stance, g[0], m_total)
+    bz = _base_axis(rs.body_z, force[:, 1], stance, g[2], m_total)
+    model = leg.model
+    qf = np.tile(pin.neutral(model), (n, 1))
+    vf = np.zeros((n, model.nv))
+    af = np.zeros((n, model.nv))
+    for arr, k in ((qf, 0), (vf, 1), (af, 2)):
+        idx = leg.base_q_index if arr is qf else leg.base_v_index
+        arr[:, idx[0]] = bx[k]
+        arr[:, idx[1]] = bz[k]
+    qf[:, leg.q_index] = q
+    vf[:, leg.v_index] = qd
+    af[:, leg.v_index] = qdd
+
+    dyn = inverse_dynamics(leg, qf, vf, af, foot_force_local(leg, rot, force))
+    tau = dyn.tau
+    tau_free = tau + np.einsum("nij,ni->nj", jac, force)
+    ms = motor_side(robot, rs.time_s, q, qd, qdd, tau)
+
+    finite = np.isfinite(q).all(1) & np.isfinite(qd).all(1) & np.isfinite(qdd).all(1) & np.isfinite(tau).all(1)
+    finite &= np.isfinite(ms.current_a).all(1) & np.isfinite(ms.voltage_v).all(1)
+    flags |= np.where(finite, 0, FLAG_NONFINITE)
+
+    return JointTrajectory(
+        case=name,
+        ground_height_m=float(ground_height_m),
+        joint_names=tuple(leg.joint_names),
+        rate_hz=float(rate_hz),
+        time_s=frozen_array(rs.time_s),
+        stance=frozen_array(stance, dtype=bool),
+        q=frozen_array(q),
+        qd=frozen_array(qd),
+        qdd=frozen_array(qdd),
+        tau=frozen_array(tau),
+        tau_free=frozen_array(tau_free),
+        jacobian=frozen_array(jac),
+        foot_force_n=frozen_array(force),
+        base_residual=frozen_array(dyn.base_residual),
+        motor_position_rad=ms.motor_position_rad,
+        motor_speed_rad_s=ms.motor_speed_rad_s,
+        motor_torque_nm=ms.motor_torque_nm,
+        current_a=ms.current_a,
+        voltage_v=ms.voltage_v,
+        electrical_power_w=ms.electrical_power_w,
+        mechanical_power_w=ms.mechanical_power_w,
+        flags=frozen_array(flags, dtype=np.int64),
+    )
+
+
+def translate(case: ReducedTrajectory, robot: Robot, *, rate_hz: float = 1000.0,
+              leg_model: LegModel | None = None) -> JointTrajectory:
+    """Joint-space targets of one case at ``rate_hz`` [Hz] (see the module docstring).
+
+    Never raises for an unreachable or singular sample: such samples carry FLAG_* bits in
+    ``flags`` and hold the closest reachable pose. Raises mapping.resample.ResampleError
+    (a LegbridgeError, ValueError) for a case that cannot be resampled.
+    """
+    leg = leg_model if leg_model is not None else build_leg_model(robot)
+    rs = resample_case(case, rate_hz)
+    return translate_resampled(rs, robot, leg, name=case.name, ground_height_m=case.ground_height_m, rate_hz=rate_hz)
+
+
+def translate_plan(plan: Plan, robot: Robot, *, rate_hz: float = 1000.0,
+                   cases: tuple[str, ...] | list[str] | None = None) -> tuple[JointTrajectory, ...]:
+    """translate() every case of a plan (or the named ``cases``, in that order); one LegModel per plan.
+
+    An unknown case name raises LegbridgeError listing the plan's cases.
+    """
+    chosen = plan.cases if cases is None else tuple(plan.case(c) for c in cases)
+    leg = build_leg_model(robot)
+    return tuple(translate(c, robot, rate_hz=rate_hz, leg_model=leg) for c in chosen)
