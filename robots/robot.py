@@ -126,7 +126,17 @@ class Joint:
 
 @dataclass(frozen=True)
 class UrdfSource:
-    """Where a URDF-described leg comes from: the file, the sagittal chain and locked joints."""
+    """Where a URDF-described leg comes from: the file, the sagittal chain and locked joints.
+
+    urdf_path: absolute path of the URDF file; sha256: its SHA-256 when loaded (hex)
+    hip_link: the link the sagittal chain starts from (rigid with the body once joints are locked)
+    foot_frame: the URDF link holding the foot; foot_offset_m: contact point in that link's frame [m]
+    leg_joints: the sagittal chain, hip to foot; locked_joints: (name, value [rad or m]) of every
+        other movable joint
+    base_link: the URDF root link (the body)
+    body_mass_kg, body_pitch_inertia_kgm2: values from the robot TOML that replace the URDF's body
+        inertia (None: the body inertia is that of the links above the hip in the URDF)
+    """
 
     urdf_path: str
     hip_link: str
@@ -134,6 +144,10 @@ class UrdfSource:
     leg_joints: tuple[str, ...]
     locked_joints: tuple[tuple[str, float], ...] = ()
     base_link: str | None = None
+    foot_offset_m: tuple[float, float, float] = (0.0, 0.0, 0.0)
+    body_mass_kg: float | None = None
+    body_pitch_inertia_kgm2: float | None = None
+    sha256: str = ""
 
 
 @dataclass(frozen=True)

@@ -8,7 +8,8 @@ Layout (keys carry their unit; see robots/library/*.toml for complete, invented 
     [joints.<name>]  lower_rad, upper_rad, actuator keys (robots.actuator_reader),
                  optional spring_stiffness_nm_per_rad, spring_damping_nms_per_rad
 
-Joint i moves segment i; joint tables are matched to segments in file order.
+Joint i moves segment i; joint tables are matched to segments in file order. A file with a
+``[urdf]`` section instead describes a URDF leg (layout in robots.urdf_reader).
 """
 
 from __future__ import annotations
@@ -133,7 +134,20 @@ def robot_from_toml(doc: dict, path: str, sha256: str, *, extra_sections: tuple[
 
 
 def load_robot(path: str | Path) -> Robot:
-    """Load and validate a robot description file (native TOML)."""
+    """Load and validate a robot description file.
+
+    A native TOML (``[[segments]]``), or a TOML with a ``[urdf]`` section naming a URDF file and
+    its sagittal chain (robots.urdf_reader). A bare ``.urdf`` is refused: the actuator data live in
+    the TOML.
+    """
     data = read_bytes(path)
+    if str(path).lower().endswith(".urdf"):
+        raise RobotFileError("a URDF alone does not describe the actuators", path=str(path),
+                             hint="write a robot TOML with a [urdf] section naming this file and [joints.<name>] actuator tables")
     doc = parse_toml(data, str(path))
-    return robot_from_toml(doc, str(path), hashlib.sha256(data).hexdigest())
+    sha = hashlib.sha256(data).hexdigest()
+    if "urdf" in doc:
+        from .urdf_reader import robot_from_urdf_toml
+
+        return robot_from_urdf_toml(doc, str(path), sha)
+    return robot_from_toml(doc, str(path), sha)
