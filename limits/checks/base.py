@@ -1,0 +1,83 @@
+"""What every limit module shares: the evaluation context and small vectorised helpers.
+
+A limit module holds ``LIMITS`` (the limit names it produces) and ``evaluate(ctx) ->
+tuple[LimitTrace, ...]``; limits.checks.CHECKS lists the modules and the checker just stacks their
+traces. Every trace is shape (n_samples,), SI units, read-only.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from legbridge.limits.results import CheckSettings, LimitTrace, ThermalResult
+from legbridge.robots.robot import Robot
+
+
+@dataclass(frozen=True, eq=False)
+class CheckContext:
+    """Inputs of one case's checks.
+
+    traj: legbridge.mapping.joint_trajectory.JointTrajectory; robot; settings
+    friction: the friction coefficient in force (settings.friction, else the robot's) [-]
+    thermal: the winding thermal simulation of this case (limits.thermal), computed once
+    """
+
+    traj: object
+    robot: Robot
+    settings: CheckSettings
+    friction: float
+    thermal: ThermalResult | None = None
+
+    @property
+    def dt_s(self) -> float:
+        return 1.0 / float(self.traj.rate_hz)
+
+    def joints(self):
+        """(column index, Joint) for each trajectory joint, matched by name."""
+        return [(i, self.robot.joint(name)) for i, name in enumerate(self.traj.joint_names)]
+
+
+def frozen(a) -> np.ndarray:
+    out = np.array(a, dtype=float, copy=True)
+    out.setflags(write=False)
+    return out
+
+
+def ratio(value, allowed) -> np.ndarray:
+    """value / allowed with a zero limit handled: 0/0 -> 0, x/0 -> inf (x > 0); NaN stays NaN."""
+    v = np.asarray(value, dtype=float)
+    a = np.asarray(allowed, dtype=float)
+    v, a = np.broadcast_arrays(v, a)
+    out = np.full(v.shape, np.inf)
+    nz = a != 0
+    np.divide(v, a, out=out, where=nz)
+    out = np.where(~nz & (v <= 0), 0.0, out)
+    return np.where(np.isnan(v) | np.isnan(a), np.nan, out)
+
+
+def signed_ratio(value, lo, hi) -> np.ndarray:
+    """Utilisation of a two-sided bound lo <= value <= hi with lo < 0 < hi normally.
+
+    value >= 0 is measured against hi, value < 0 against lo. A bound on the wrong side of zero (hi
+    <= 0 for a value >= 0) gives 1 when the value sits on it and inf when it is beyond it.
+    """
+    v = np.asarray(value, dtype=float)
+    lo = np.asarray(lo, dtype=float)
+    hi = np.asarray(hi, dtype=float)
+    v, lo, hi = np.broadcast_arrays(v, lo, hi)
+    pos = v >= 0
+    bound = np.where(pos, hi, -lo)
+    mag = np.where(pos, v, -v)
+    good = bound > 0
+    out = np.where(mag > bound, np.inf, 1.0)
+    np.divide(mag, bound, out=out, where=good)
+    return np.where(np.isnan(v) | np.isnan(lo) | np.isnan(hi), np.nan, out)
+
+
+def trace(limit: str, joint: str, unit: str, value, allowed, utilisation, *, near_from=None, source="") -> LimitTrace:
+    """A read-only LimitTrace; allowed is broadcast to the value's shape."""
+    value = np.asarray(value, dtype=float)
+    return LimitTrace(limit, joint, unit, frozen(value), frozen(np.broadcast_to(allowed, value.shape)),
+                      frozen(np.broadcast_to(utilisation, value.shape)), near_from, source)

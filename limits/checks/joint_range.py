@@ -1,0 +1,28 @@
+"""Joint range: joint angle against the hard stops, with a warning band before each stop.
+
+Utilisation = 1 - (distance to the nearer stop) / (half the range): 0 at mid-range, exactly 1 on a
+stop, above 1 beyond it. value: joint angle [rad]; allowed: the nearer stop [rad]. The 'near' band
+is ``settings.range_margin_rad`` before the stop when given (else ``margin`` of the half range).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .base import CheckContext, trace
+
+LIMITS = ("joint_range",)
+
+
+def evaluate(ctx: CheckContext):
+    out = []
+    for i, joint in ctx.joints():
+        q = ctx.traj.q[:, i]
+        lo, hi = joint.lower_rad, joint.upper_rad
+        half = 0.5 * (hi - lo)
+        to_hi, to_lo = hi - q, q - lo
+        util = 1.0 - np.minimum(to_hi, to_lo) / half
+        allowed = np.where(to_hi <= to_lo, hi, lo)
+        near = None if ctx.settings.range_margin_rad is None else 1.0 - ctx.settings.range_margin_rad / half
+        out.append(trace("joint_range", joint.name, "rad", q, allowed, util, near_from=near, source="hard stops"))
+    return tuple(out)

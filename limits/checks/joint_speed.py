@@ -1,0 +1,21 @@
+"""Joint speed: |qd| against robots.actuator_limits.max_joint_speed (motor speed limit / gear
+ratio, no-load speed, or a tighter joint-side value). value |qd| [rad/s]."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from legbridge.robots.actuator_limits import max_joint_speed
+
+from .base import CheckContext, ratio, trace
+
+LIMITS = ("joint_speed",)
+
+
+def evaluate(ctx: CheckContext):
+    out = []
+    for i, joint in ctx.joints():
+        bound = max_joint_speed(joint)
+        v = np.abs(ctx.traj.qd[:, i])
+        out.append(trace("joint_speed", joint.name, "rad/s", v, bound.value, ratio(v, bound.value), source=bound.source))
+    return tuple(out)

@@ -1,0 +1,19 @@
+"""Drive peak current: |I| (DC-equivalent, the trajectory's motor side) against the drive's peak
+current. value: I [A] (signed); allowed: I_peak [A]."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .base import CheckContext, ratio, trace
+
+LIMITS = ("peak_current",)
+
+
+def evaluate(ctx: CheckContext):
+    out = []
+    for i, joint in ctx.joints():
+        cur = ctx.traj.current_a[:, i]
+        ipk = joint.actuator.peak_current_a
+        out.append(trace("peak_current", joint.name, "A", cur, ipk, ratio(np.abs(cur), ipk), source="drive peak current"))
+    return tuple(out)

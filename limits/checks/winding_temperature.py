@@ -1,0 +1,23 @@
+"""Continuous current through the winding thermal model (limits.thermal): the winding temperature
+rise above ambient at each plan sample during its last (hottest) repetition over the test duration,
+against the allowed rise (max winding temperature - ambient). value and allowed: rise [K]."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .base import CheckContext, ratio, trace
+
+LIMITS = ("winding_temperature",)
+
+
+def evaluate(ctx: CheckContext):
+    th = ctx.thermal
+    out = []
+    for i, joint in ctx.joints():
+        k = th.joint_names.index(joint.name)
+        rise = th.phase_temp_c[:, k] - th.ambient_c[k]
+        allowed = th.max_temp_c[k] - th.ambient_c[k]
+        out.append(trace("winding_temperature", joint.name, "K", rise, allowed, ratio(rise, allowed),
+                         source=f"winding thermal model over {th.duration_s:g} s"))
+    return tuple(out)

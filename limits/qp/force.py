@@ -1,0 +1,136 @@
+"""Force-feasibility QP, one sparse problem per case over all stance samples.
+
+For every stance sample k find the ground force F_k (x, z) [N] closest to the planned one that the
+leg can produce:
+
+    minimise   sum_k ||F_k - F_plan,k||^2 + w sum_k,i s_k,i
+    subject to lo_k,i - s_k,i <= tau_free_k,i - (J_k^T F_k)_i <= hi_k,i + s_k,i     (each joint i)
+               |Fx_k| <= mu Fz_k,  Fz_k >= 0,  s_k,i >= 0
+
+[lo, hi]: robots.actuator_limits.joint_torque_bounds_nm(act, qd, qdd) with the voltage envelope
+(voltage=True), tightened by the joint's effort limit. The slack s [N m] keeps the stacked problem
+feasible when one sample is infeasible by itself (e.g. the speed is beyond the torque-speed
+envelope, lo > hi, or tau_free alone is out of bounds): with the weight w well above the torque
+constraints' multipliers the L1 penalty is exact, so s = 0 wherever a feasible force exists, and a
+sample with s > SLACK_TOL_NM is reported as infeasible (a finding; its force is then the best
+compromise, not a feasible force). Shortfall = ||F - F_plan|| [N] and in % of ||F_plan||.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import scipy.sparse as sp
+
+from legbridge.robots.actuator_limits import joint_torque_bounds_nm
+
+from .problem import QPProblem, solve
+
+SLACK_TOL_NM = 1e-5
+
+
+def torque_bounds(traj, robot) -> tuple[np.ndarray, np.ndarray]:
+    """(lo, hi) joint torque bounds [N m], shape (n, j), voltage envelope and effort limits applied."""
+    lo = np.empty(traj.q.shape)
+    hi = np.empty(traj.q.shape)
+    for i, name in enumerate(traj.joint_names):
+        joint = robot.joint(name)
+        l, h = joint_torque_bounds_nm(joint.actuator, traj.qd[:, i], traj.qdd[:, i], voltage=True)
+        if joint.effort_limit_nm is not None:
+            l, h = np.maximum(l, -joint.effort_limit_nm), np.minimum(h, joint.effort_limit_nm)
+        lo[:, i], hi[:, i] = l, h
+    return lo, hi
+
+
+def build(jacobian, tau_free, force_plan, lo, hi, mu: float, slack_weight: float | None = None) -> QPProblem:
+    """The stacked QP for m samples: jacobian (m, 2, j), tau_free, lo, hi (m, j), force_plan (m, 2).
+
+    Variables: x = [F_0x, F_0z, F_1x, ..., s_0,0 .. s_0,j-1, s_1,0, ...] (2m forces, then j m slacks).
+    Rows per sample: j upper torque rows, j lower torque rows, 2 cone rows, 1 unilateral row, then j
+    slack rows (s >= 0) at the end.
+    """
+    J = np.asarray(jacobian, dtype=float)
+    m, _, nj = J.shape
+    f0 = np.asarray(force_plan, dtype=float).reshape(m, 2)
+    tf = np.asarray(tau_free, dtype=float).reshape(m, nj)
+    if slack_weight is None:
+        slack_weight = 1e3 * max(1.0, float(np.max(np.abs(f0), initial=0.0)))
+    nf, ns = 2 * m, nj * m
+    rows_per = 2 * nj + 3
+    k = np.arange(m)
+    fx, fz = 2 * k, 2 * k + 1
+    r_list, c_list, v_list = [], [], []
+
+    def add(r, c, v):
+        r_list.append(np.broadcast_to(r, np.broadcast(r, c, v).shape).ravel())
+        c_list.append(np.broadcast_to(c, np.broadcast(r, c, v).shape).ravel())
+        v_list.append(np.broadcast_to(v, np.broadcast(r, c, v).shape).ravel())
+
+    base = k * rows_per
+    for i in range(nj):  # joints, not samples
+        s_col = nf + k * nj + i
+        ru, rl = base + i, base + nj + i
+        # -J^T F - s <= hi - tau_free ; -J^T F + s >= lo - tau_free
+        add(ru, fx, -J[:, 0, i]); add(ru, fz, -J[:, 1, i]); add(ru, s_col, -1.0)
+        add(rl, fx, -J[:, 0, i]); add(rl, fz, -J[:, 1, i]); add(rl, s_col, 1.0)
+    rc = base + 2 * nj
+    add(rc, fx, 1.0); add(rc, fz, -mu)          # Fx - mu Fz <= 0
+    add(rc + 1, fx, -1.0); add(rc + 1, fz, -mu)  # -Fx - mu Fz <= 0
+    add(rc + 2, fz, 1.0)                         # Fz >= 0
+    srow = m * rows_per + np.arange(ns)
+    add(srow, nf + np.arange(ns), 1.0)           # s >= 0
+    n_rows = m * rows_per + ns
+    A = sp.csr_matrix((np.concatenate(v_list), (np.concatenate(r_list), np.concatenate(c_list))), shape=(n_rows, nf + ns))
+    lower = np.full(n_rows, -np.inf)
+    upper = np.full(n_rows, np.inf)
+    blk_u = np.full((m, rows_per), np.inf)
+    blk_l = np.full((m, rows_per), -np.inf)
+    blk_u[:, :nj] = np.asarray(hi, dtype=float).reshape(m, nj) - tf
+    blk_l[:, nj:2 * nj] = np.asarray(lo, dtype=float).reshape(m, nj) - tf
+    blk_u[:, 2 * nj:2 * nj + 2] = 0.0
+    blk_l[:, 2 * nj + 2] = 0.0
+    upper[:m * rows_per], lower[:m * rows_per] = blk_u.ravel(), blk_l.ravel()
+    lower[m * rows_per:] = 0.0
+    p_diag = np.concatenate([np.full(nf, 2.0), np.zeros(ns)])
+    c = np.concatenate([-2.0 * f0.ravel(), np.full(ns, slack_weight)])
+    labels = tuple(f"torque_hi[{i}]" for i in range(nj)) + tuple(f"torque_lo[{i}]" for i in range(nj)) + ("cone+", "cone-", "unilateral")
+    return QPProblem("force_feasibility", p_diag, c, A, lower, upper, labels,
+                     {"n_samples": m, "n_joints": nj, "slack_weight": slack_weight, "rows_per_sample": rows_per})
+
+
+def unpack(x, m: int, nj: int) -> tuple[np.ndarray, np.ndarray]:
+    """(force (m, 2) [N], slack (m, j) [N m]) from the solution vector."""
+    return x[:2 * m].reshape(m, 2), x[2 * m:].reshape(m, nj)
+
+
+def force_feasibility(traj, robot, mu: float, solver: str = "CLARABEL"):
+    """Build and solve the force QP of one case. Returns (QPProblem, QPSolution with values)."""
+    from dataclasses import replace
+
+    stance = np.asarray(traj.stance, dtype=bool)
+    idx = np.flatnonzero(stance)
+    lo, hi = torque_bounds(traj, robot)
+    prob = build(traj.jacobian[idx], traj.tau_free[idx], traj.foot_force_n[idx], lo[idx], hi[idx], mu)
+    x, sol = solve(prob, solver)
+    n, nj = traj.n_samples, traj.n_joints
+    f_opt, slack = unpack(x, idx.size, nj)
+    force = np.full((n, 2), np.nan)
+    force[idx] = f_opt
+    s_all = np.zeros((n, nj))
+    s_all[idx] = slack
+    plan = np.asarray(traj.foot_force_n, dtype=float)
+    short = np.zeros(n)
+    short[idx] = np.linalg.norm(f_opt - plan[idx], axis=1)
+    mag = np.linalg.norm(plan, axis=1)
+    pct = np.zeros(n)
+    nz = mag > 0
+    np.divide(100.0 * short, mag, out=pct, where=nz)
+    pct = np.where(~nz & (short > 0), np.inf, pct)
+    infeasible = np.zeros(n, dtype=bool)
+    infeasible[idx] = ~(np.max(slack, axis=1, initial=0.0) <= SLACK_TOL_NM)
+    tau_opt = np.full((n, nj), np.nan)
+    tau_opt[idx] = traj.tau_free[idx] - np.einsum("kri,kr->ki", traj.jacobian[idx], f_opt)
+    values = {"force_n": force, "shortfall_n": short, "shortfall_pct": pct, "torque_slack_nm": s_all,
+              "infeasible": infeasible, "tau_nm": tau_opt, "torque_lo_nm": lo, "torque_hi_nm": hi}
+    for v in values.values():
+        v.setflags(write=False)
+    return prob, replace(sol, values=values)

@@ -1,0 +1,106 @@
+"""A QP as an inspectable object, and its solve as a second step.
+
+    minimise  0.5 x^T P x + c^T x   subject to   lower <= A x <= upper
+
+P diagonal (stored as its diagonal ``p_diag``), A sparse (scipy CSR). Infinite entries of lower/upper
+mean 'no bound'. ``solve`` builds the cvxpy problem once for the whole batch, solves it with Clarabel
+or OSQP and computes the KKT residuals from the matrices (solver-independent):
+
+    primal_inf        max over rows of the bound violation of A x
+    stationarity_inf  || P x + c + A^T y ||_inf   with y = y_upper - y_lower (cvxpy duals, >= 0)
+    complementarity_inf  max |y_upper (A x - upper)|, |y_lower (A x - lower)|
+"""
+
+from __future__ import annotations
+
+import time
+from dataclasses import dataclass
+
+import numpy as np
+import scipy.sparse as sp
+
+from legbridge.limits.results import QPSolution
+
+OK_STATUSES = ("optimal",)
+
+
+@dataclass(frozen=True, eq=False)
+class QPProblem:
+    """name; p_diag (n,), c (n,), A (m, n) sparse, lower/upper (m,); row_labels (m,) say what each
+    constraint row is (for reading the problem); meta: anything the builder wants to pass on."""
+
+    name: str
+    p_diag: np.ndarray
+    c: np.ndarray
+    A: sp.csr_matrix
+    lower: np.ndarray
+    upper: np.ndarray
+    row_labels: tuple[str, ...] = ()
+    meta: dict | None = None
+
+    @property
+    def shape(self) -> tuple[int, int]:
+        """(constraint rows, variables)."""
+        return self.A.shape
+
+    @property
+    def n_variables(self) -> int:
+        return int(self.p_diag.shape[0])
+
+    def objective(self, x) -> float:
+        x = np.asarray(x, dtype=float)
+        return float(0.5 * np.sum(self.p_diag * x * x) + self.c @ x)
+
+
+def solve(problem: QPProblem, solver: str = "CLARABEL") -> tuple[np.ndarray, QPSolution]:
+    """Solve ``problem`` in one cvxpy call. Returns (x (n,), QPSolution without values); x is NaN when
+    the solver gives no solution. A non-optimal status is reported in QPSolution.ok = False."""
+    import cvxpy as cp
+
+    n = problem.n_variables
+    if n == 0:
+        return np.zeros(0), QPSolution(problem.name, "optimal", True, 0.0, solver, {}, {
+            "primal_inf": 0.0, "stationarity_inf": 0.0, "complementarity_inf": 0.0, "objective": 0.0})
+    A = sp.csr_matrix(problem.A)
+    up_rows = np.flatnonzero(np.isfinite(problem.upper))
+    lo_rows = np.flatnonzero(np.isfinite(problem.lower))
+    x = cp.Variable(n)
+    sq = np.sqrt(problem.p_diag)
+    obj = 0.5 * cp.sum_squares(cp.multiply(sq, x)) + problem.c @ x
+    cons = []
+    if up_rows.size:
+        cons.append(A[up_rows] @ x <= problem.upper[up_rows])
+    if lo_rows.size:
+        cons.append(A[lo_rows] @ x >= problem.lower[lo_rows])
+    prob = cp.Problem(cp.Minimize(obj), cons)
+    t0 = time.perf_counter()
+    try:
+        prob.solve(solver=solver.upper())
+        status = str(prob.status)
+    except cp.error.SolverError as exc:
+        status = f"solver error: {exc}"
+    elapsed = time.perf_counter() - t0
+    ok = status in OK_STATUSES
+    xv = np.full(n, np.nan) if x.value is None else np.asarray(x.value, dtype=float)
+    res = {"solver_time_s": float(getattr(prob.solver_stats, "solve_time", None) or np.nan) if prob.solver_stats else np.nan}
+    if x.value is not None:
+        ax = A @ xv
+        viol = np.maximum(np.maximum(ax - problem.upper, problem.lower - ax), 0.0)
+        res["primal_inf"] = float(np.max(viol)) if viol.size else 0.0
+        y = np.zeros(A.shape[0])
+        comp = 0.0
+        i = 0
+        if up_rows.size:
+            yu = np.asarray(cons[i].dual_value, dtype=float).ravel()
+            y[up_rows] += yu
+            comp = max(comp, float(np.max(np.abs(yu * (ax[up_rows] - problem.upper[up_rows])))))
+            i += 1
+        if lo_rows.size:
+            yl = np.asarray(cons[i].dual_value, dtype=float).ravel()
+            y[lo_rows] -= yl
+            comp = max(comp, float(np.max(np.abs(yl * (ax[lo_rows] - problem.lower[lo_rows])))))
+        grad = problem.p_diag * xv + problem.c + A.T @ y
+        res["stationarity_inf"] = float(np.max(np.abs(grad)))
+        res["complementarity_inf"] = comp
+        res["objective"] = problem.objective(xv)
+    return xv, QPSolution(problem.name, status, ok, elapsed, solver.upper(), {}, res)
