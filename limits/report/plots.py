@@ -62,9 +62,15 @@ def row_for_limit(limit: str) -> str | None:
         return "angle"
     if any(k in s for k in ("speed", "velocity")):
         return "speed"
-    if any(k in s for k in ("torque", "voltage", "current", "effort")):
+    if any(k in s for k in ("torque", "voltage", "current", "effort", "temperature")):
         return "torque"
     return None
+
+
+def is_ground_limit(limit: str) -> bool:
+    """Limits of the ground force (unilateral force, friction cone): drawn on the force figure."""
+    s = limit.lower()
+    return "force" in s or "friction" in s
 
 
 def _new_figure(width_in: float, height_in: float):
@@ -169,6 +175,8 @@ def case_joints_figure(review, robot) -> Figure:
             if r == 2:
                 ax.set_xlabel("time [s]")
     for seg in review.segments:
+        if is_ground_limit(seg.limit):
+            continue
         cols = range(nj) if not seg.joint else [names.index(seg.joint)] if seg.joint in names else range(nj)
         row = row_for_limit(seg.limit)
         rows = [i for i, (k, _) in enumerate(ROWS) if row is None or k == row]
@@ -239,7 +247,7 @@ def case_force_figure(review, robot, friction: float | None = None) -> Figure:
     severities: set[str] = set()
     for seg in review.segments:
         s = seg.limit.lower()
-        if seg.joint == "" or "force" in s or "friction" in s:
+        if is_ground_limit(s) or s == "mapping":
             for ax, row in ((ax_z, "force_z"), (ax_x, "force_x")):
                 _shade_span(ax, seg.t_start_s, seg.t_end_s, seg.severity, dt)
                 shaded.append(Shade("", row, float(seg.t_start_s), float(seg.t_end_s), seg.severity, seg.limit))
@@ -291,6 +299,14 @@ def torque_speed_figure(reviews, robot, joint_name: str) -> Figure:
     return Figure(f"joint-{joint_name}-torque-speed", _png(fig), alt)
 
 
+def _thermal_of(review):
+    """(winding_temp_c (m, j) [degC], time_s (m,) [s]) of a case: its ThermalResult, else the older fields."""
+    th = getattr(review, "thermal", None)
+    if th is not None:
+        return th.winding_temp_c, th.time_s
+    return getattr(review, "winding_temp_c", None), getattr(review, "thermal_time_s", None)
+
+
 def thermal_figure(reviews, robot, duration_s: float | None) -> Figure:
     """Winding temperature [degC] of every joint over the test duration [s], against its limit.
 
@@ -308,14 +324,14 @@ def thermal_figure(reviews, robot, duration_s: float | None) -> Figure:
         ax.axhline(th.max_winding_temp_c, color=LIMIT, linewidth=1.2, label="winding limit" if j == 0 else None)
         ax.axhline(th.ambient_temp_c, color="#6b7680", linewidth=0.8, linestyle=":", label="ambient" if j == 0 else None)
         for k, rv in enumerate(reviews):
-            temp = getattr(rv, "winding_temp_c", None)
-            tt = getattr(rv, "thermal_time_s", None)
+            temp, tt = _thermal_of(rv)
+            jn = rv.thermal.joint_names if getattr(rv, "thermal", None) is not None else rv.trajectory.joint_names
             if temp is None or tt is None:
                 if j == 0:
                     notes.append(f"case {rv.case}: winding temperature was not computed")
                 continue
             temp = np.asarray(temp, dtype=float)
-            col = temp if temp.ndim == 1 else temp[:, list(rv.trajectory.joint_names).index(name)] if name in rv.trajectory.joint_names else None
+            col = temp if temp.ndim == 1 else temp[:, list(jn).index(name)] if name in jn else None
             if col is None:
                 continue
             ax.plot(np.asarray(tt, dtype=float), col, color=(PLAN, ALT, INK, "#4f7d4f")[k % 4],

@@ -47,8 +47,10 @@ def num(x, fmt: str = ".4g") -> str:
 
 
 def pct(u) -> str:
-    if u is None or (isinstance(u, float) and math.isnan(u)):
+    if u is None or math.isnan(float(u)):
         return "not evaluated"
+    if math.isinf(float(u)):
+        return "not finite (counted as exceeding)"
     return f"{100.0 * float(u):.1f}&nbsp;%"
 
 

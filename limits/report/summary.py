@@ -52,16 +52,19 @@ def worst_of(review) -> Worst | None:
     """Worst limit of a case: from ``review.worst`` when it names one, else the traces, else the segments."""
     w = review.worst or {}
     util = w.get("utilisation")
-    if w.get("limit") is not None and util is not None:
+    if isinstance(w.get("limit"), str) and util is not None:  # {'limit':, 'joint':, 'utilisation':}
         return Worst(str(w["limit"]), str(w.get("joint", "") or ""), float(util))
     best: Worst | None = None
     for tr in review.traces:
         u = np.asarray(tr.utilisation, dtype=float)
         if u.size == 0:
             continue
-        m = float(np.nanmax(u)) if np.isfinite(u).any() else math.nan
-        if best is None or (m > best.utilisation) or math.isnan(best.utilisation):
+        m = float(np.max(np.where(np.isnan(u), np.inf, u)))  # NaN = not evaluable: counts as the worst
+        if best is None or m > best.utilisation:
             best = Worst(tr.limit, tr.joint, m)
+    if best is None and w and all(isinstance(v, (int, float)) for v in w.values()):  # limit -> utilisation
+        lim = max(w, key=lambda k: math.inf if math.isnan(w[k]) else w[k])
+        best = Worst(str(lim), "", float(w[lim]))
     if best is None:
         for seg in review.segments:
             if best is None or seg.utilisation > best.utilisation:
@@ -78,7 +81,7 @@ def ranked(reviews) -> list:
     if rank_cases is not None:
         out = list(rank_cases(reviews))
         by_name = {r.case: r for r in reviews}
-        return [by_name[x] if isinstance(x, str) else x for x in out]
+        return [by_name[x if isinstance(x, str) else x.case] for x in out]
 
     def key(r):
         w = worst_of(r)

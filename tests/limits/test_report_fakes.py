@@ -13,7 +13,7 @@ from pathlib import Path
 
 import numpy as np
 
-from legbridge.limits.results import SEVERITY_EXCEEDS, SEVERITY_NEAR, CaseReview, LimitSegment, LimitTrace, QPSolution
+from legbridge.limits.results import CASE_WITHIN, SEVERITY_EXCEEDS, SEVERITY_NEAR, CaseReview, LimitSegment, LimitTrace, QPSolution
 from legbridge.mapping.joint_trajectory import JointTrajectory
 from legbridge.mapping.plan import Plan, ReducedTrajectory, frozen_array
 from legbridge.robots.actuator_limits import peak_joint_torque_nm
@@ -73,18 +73,17 @@ def segments_from(trace: LimitTrace, traj: JointTrajectory, margin: float) -> tu
 
 
 def case_review(traj: JointTrajectory, rob, margin: float = 0.1, *, findings=(), thermal=True) -> CaseReview:
-    """A CaseReview with one 'peak torque' trace per joint (|tau| against the drive peak torque)."""
+    """A CaseReview with one 'peak_torque' trace per joint (|tau| against the drive peak torque)."""
     traces, segs = [], []
     for j, name in enumerate(traj.joint_names):
         allowed = np.full(traj.n_samples, peak_joint_torque_nm(rob.joint(name).actuator))
         val = np.abs(traj.tau[:, j])
-        tr = LimitTrace("peak torque", name, "N m", frozen_array(val), frozen_array(allowed), frozen_array(val / allowed))
+        tr = LimitTrace("peak_torque", name, "N m", frozen_array(val), frozen_array(allowed), frozen_array(val / allowed))
         traces.append(tr)
         segs.extend(segments_from(tr, traj, margin))
     verdict = SEVERITY_EXCEEDS if any(s.severity == SEVERITY_EXCEEDS for s in segs) else (
-        SEVERITY_NEAR if segs else "within")
-    best = max(traces, key=lambda tr: float(tr.utilisation.max()))
-    worst = {"limit": best.limit, "joint": best.joint, "utilisation": float(best.utilisation.max())}
+        SEVERITY_NEAR if segs else CASE_WITHIN)
+    worst = {"peak_torque": max(float(tr.utilisation.max()) for tr in traces)}  # limit -> highest utilisation
     kw = {}
     if thermal:
         tt = np.linspace(0.0, 120.0, 50)

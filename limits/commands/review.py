@@ -1,0 +1,114 @@
+"""``legbridge review PLAN --robot ROBOT -o DIR`` and ``legbridge review --demo -o DIR``.
+
+Runs limits.review.run_review and prints the terminal summary: the verdict of every case, the worst
+findings, where the outputs were written, and the caution text. Progress goes to stderr (one short
+line per stage) when stderr is a terminal.
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+import time
+
+from legbridge.robots.errors import LegbridgeError
+
+HELP = "translate, check and write the pre-test review (JSON, joint targets, HTML report)"
+
+
+class ReviewUsageError(LegbridgeError, ValueError):
+    """The review command was given an impossible combination of arguments."""
+
+
+def register(sub) -> None:
+    p = sub.add_parser("review", help=HELP, description=HELP[0].upper() + HELP[1:] + ".")
+    p.add_argument("plan", nargs="?", metavar="PLAN", help="plan file (.csv, .json, .npz, .mat)")
+    p.add_argument("--robot", metavar="ROBOT", help="robot description file")
+    p.add_argument("--demo", action="store_true",
+                   help="review the bundled demo leg with the built-in demo plan (invented data)")
+    p.add_argument("-o", "--out", metavar="DIR", required=True, help="output folder for the review")
+    p.add_argument("--rate", metavar="HZ", type=float, default=1000.0, help="export and check rate [Hz] (default 1000)")
+    p.add_argument("--duration", metavar="S", type=float, default=None,
+                   help="test duration for the thermal model [s] (plan repeated; default one period)")
+    p.add_argument("--margin", metavar="FRACTION", type=float, default=0.1,
+                   help="'near' band below each limit as a fraction (default 0.1)")
+    p.add_argument("--friction", metavar="MU", type=float, default=None,
+                   help="ground friction coefficient (default: the robot file's)")
+    p.add_argument("--force", action="store_true", help="overwrite previous outputs in DIR")
+    p.set_defaults(func=run)
+
+
+def _progress_printer(stream):
+    """One short line per stage on ``stream`` when it is a terminal, with the elapsed time."""
+    if not getattr(stream, "isatty", lambda: False)():
+        return None
+    t0 = time.perf_counter()
+
+    def say(msg: str) -> None:
+        print(f"  [{time.perf_counter() - t0:5.1f} s] {msg}", file=stream, flush=True)
+
+    return say
+
+
+def summary_lines(outcome) -> list[str]:
+    """The terminal summary of a review outcome (no colour, no word 'safe')."""
+    from legbridge.limits.cautions import caution_lines
+    from legbridge.limits.report.summary import joint_label, ranked, verdict_words, worst_of, worst_segments
+
+    plan, robot = outcome.plan, outcome.robot
+    lines = [f"legbridge review: plan {plan.path} (SHA-256 {plan.sha256[:12]}...) on robot {robot.name}", ""]
+    width = max((len(r.case) for r in outcome.reviews), default=4)
+    for r in outcome.reviews:
+        w = worst_of(r)
+        worst = f"worst {w.limit} ({joint_label(w.joint)}) at {100 * w.utilisation:.1f} %" if w else "worst: not evaluated"
+        lines.append(f"  {r.case:<{width}}  {verdict_words(r):<28} {worst}")
+        for f in r.findings:
+            lines.append(f"  {'':<{width}}  could not be evaluated: {f}")
+    order = ", ".join(r.case for r in ranked(outcome.reviews))
+    lines += ["", f"Ranking, worst first: {order}"]
+    segs = worst_segments(outcome.reviews)
+    if segs:
+        lines.append("Worst findings:")
+        for s in segs:
+            lines.append(f"  {s.case} / {joint_label(s.joint)} / {s.limit}: {s.severity}, "
+                         f"{s.t_start_s:.3f}-{s.t_end_s:.3f} s, peak {s.peak:.4g} {s.unit} against {s.allowed:.4g} {s.unit} "
+                         f"({100 * s.utilisation:.1f} %)")
+    else:
+        lines.append("No segment of any case is near or beyond a modelled limit.")
+    lines += ["", f"Report:  {outcome.paths['report']}", f"Results: {outcome.paths['review']}",
+              f"Targets: {outcome.paths['targets']}"]
+    if "plan" in outcome.paths:
+        lines.append(f"Plan:    {outcome.paths['plan']} (demo plan, invented data)")
+    lines.append("")
+    lines += caution_lines()
+    return lines
+
+
+def settings_from_args(args):
+    from legbridge.limits.results import CheckSettings
+
+    return CheckSettings(rate_hz=args.rate, duration_s=args.duration, margin=args.margin, friction=args.friction)
+
+
+def run(args: argparse.Namespace) -> int:
+    from legbridge.limits.review import run_demo_review, run_review
+
+    if args.demo and (args.plan or args.robot):
+        raise ReviewUsageError(key="--demo", expected="either --demo or PLAN with --robot", found="both")
+    if not args.demo and not (args.plan and args.robot):
+        raise ReviewUsageError(key="PLAN/--robot", expected="a plan file and --robot ROBOT (or --demo)",
+                               found=f"plan={args.plan!r}, robot={args.robot!r}")
+    settings = settings_from_args(args)
+    progress = _progress_printer(sys.stderr)
+    if args.demo:
+        outcome = run_demo_review(settings, args.out, force=args.force, progress=progress)
+    else:
+        from legbridge.robots.errors import InputFileNotFound
+        from pathlib import Path
+
+        for key, p in (("PLAN", args.plan), ("--robot", args.robot)):
+            if not Path(p).is_file():
+                raise InputFileNotFound(path=p, key=key, expected="an existing file", found="nothing at that path")
+        outcome = run_review(args.plan, args.robot, settings, args.out, force=args.force, progress=progress)
+    print("\n".join(summary_lines(outcome)))
+    return outcome.exit_code

@@ -1,0 +1,227 @@
+"""The HTML review report: structure, verdicts, the known violation, shading, cautions, no overwrite.
+
+The reviews come from the fake builder (test_report_fakes.py): the invented example leg, hip torque
+humps of 30, 41 and 50 N m against the hip's peak torque eta N Kt I_peak = 0.9 * 10 * 0.12 * 40 =
+43.2 N m (DC motor model, Hughes and Drury, Electric Motors and Drives, 4th ed., ch. 3). With the
+default 10 % margin the near band starts at 0.9 * 43.2 = 38.88 N m, so by hand: 30 N m is within,
+41 N m is near, 50 N m exceeds.
+"""
+
+from __future__ import annotations
+
+import base64
+import math
+import re
+from html import unescape
+from html.parser import HTMLParser
+from pathlib import Path
+
+import pytest
+
+from legbridge.limits.cautions import CAUTIONS, VERDICT_EXCEEDS, VERDICT_NEAR, VERDICT_NOT_EVALUATED, VERDICT_WITHIN
+from legbridge.limits.report import SECTION_IDS, exit_code, render_report, write_report
+from legbridge.limits.report import plots
+from legbridge.limits.results import CheckSettings
+from legbridge.robots.errors import OutputExistsError
+
+fakes = __import__("importlib").util.module_from_spec(
+    spec := __import__("importlib").util.spec_from_file_location("report_fakes", Path(__file__).with_name("test_report_fakes.py")))
+spec.loader.exec_module(fakes)
+
+SETTINGS = CheckSettings(rate_hz=200.0, duration_s=120.0, margin=0.1)
+
+
+class Doc(HTMLParser):
+    """Collects ids in document order, the visible text, tables as rows of cell text, and img sources."""
+
+    def __init__(self):
+        super().__init__(convert_charrefs=True)
+        self.ids, self.text, self.tables, self.imgs, self.tags = [], [], {}, [], []
+        self._table = None
+        self._row = None
+        self._cell = None
+
+    def handle_starttag(self, tag, attrs):
+        a = dict(attrs)
+        self.tags.append((tag, a))
+        if "id" in a:
+            self.ids.append(a["id"])
+        if tag == "table":
+            self._table = a.get("class", f"table{len(self.tables)}")
+            self.tables[self._table] = []
+        elif tag == "tr":
+            self._row = []
+        elif tag in ("td", "th"):
+            self._cell = []
+        elif tag == "img":
+            self.imgs.append(a)
+
+    def handle_endtag(self, tag):
+        if tag in ("td", "th") and self._row is not None:
+            self._row.append(" ".join("".join(self._cell).split()))
+            self._cell = None
+        elif tag == "tr" and self._table is not None:
+            self.tables[self._table].append(self._row)
+            self._row = None
+        elif tag == "table":
+            self._table = None
+
+    def handle_data(self, data):
+        self.text.append(data)
+        if self._cell is not None:
+            self._cell.append(data)
+
+
+@pytest.fixture(scope="module")
+def robot():
+    return fakes.robot()
+
+
+@pytest.fixture(scope="module")
+def reviewed(robot):
+    trajs, reviews = fakes.reviews_with_violation(robot)
+    plan = fakes.plan_for(trajs)
+    html = render_report(reviews, plan, robot, SETTINGS, created="2025-01-01T12:00:00+00:00")
+    doc = Doc()
+    doc.feed(html)
+    doc.close()
+    return reviews, plan, html, doc
+
+
+def test_every_section_in_order_and_every_case(reviewed):
+    reviews, _, _, doc = reviewed
+    positions = [doc.ids.index(s) for s in SECTION_IDS]  # ValueError if a section is missing
+    assert positions == sorted(positions)
+    for r in reviews:
+        assert f"case-{r.case}" in doc.ids
+    for j in ("hip", "knee"):
+        assert f"joint-{j}" in doc.ids
+
+
+def test_verdict_table_agrees_with_hand_computed_verdicts(reviewed):
+    # Hand values in the module docstring: 30 N m within, 41 N m near, 50 N m exceeds.
+    _, _, _, doc = reviewed
+    rows = doc.tables["verdicts"]
+    header, body = rows[0], rows[1:]
+    col = {name: i for i, name in enumerate(header)}
+    got = {r[0]: r[col["Verdict"]] for r in body}
+    assert got == {"nominal": VERDICT_WITHIN, "step": VERDICT_NEAR, "bump": VERDICT_EXCEEDS}
+    bump = next(r for r in body if r[0] == "bump")
+    assert bump[col["Worst limit"]] == "peak_torque" and bump[col["Joint"]] == "hip"
+    assert bump[col["Utilisation [%]"]] == f"{100 * 50 / 43.2:.1f} %"  # 115.7 %
+    assert exit_code(reviewed[0]) == 1
+
+
+def test_ranking_lists_worst_case_first(reviewed):
+    _, _, html, _ = reviewed
+    ranking = re.search(r'<ol class="ranking">(.*?)</ol>', html, re.S).group(1)
+    items = re.findall(r"<li>(\w+):", ranking)
+    assert items == ["bump", "step", "nominal"]  # 115.7 % > 94.9 % > 69.4 %
+
+
+def test_known_violation_is_in_the_segments_table(reviewed):
+    _, _, _, doc = reviewed
+    rows = doc.tables["segments"]
+    col = {name: i for i, name in enumerate(rows[0])}
+    exceeding = [r for r in rows[1:] if r[col["Severity"]] == VERDICT_EXCEEDS]
+    assert len(exceeding) == 1
+    r = exceeding[0]
+    assert (r[col["Case"]], r[col["Joint"]], r[col["Limit"]], r[col["Unit"]]) == ("bump", "hip", "peak_torque", "N m")
+    assert float(r[col["Peak"]]) == pytest.approx(50.0, rel=1e-3)
+    assert float(r[col["Allowed"]]) == pytest.approx(43.2, rel=1e-3)
+    # The hump 50 sin(pi t / 0.4 s) crosses 43.2 N m at t = (0.4 / pi) asin(0.864) = 0.1327 s; first sample
+    # at 200 Hz at or after it: 0.135 s.
+    assert float(r[col["Start [s]"]]) == pytest.approx(0.135, abs=1e-9)
+    # near segments on both sides (38.88 .. 43.2 N m) also listed for 'step' and 'bump'
+    assert {x[col["Case"]] for x in rows[1:] if x[col["Severity"]] == VERDICT_NEAR} == {"step", "bump"}
+
+
+def test_joint_figure_shades_the_violation_in_the_torque_row(robot, reviewed):
+    reviews = reviewed[0]
+    fig = plots.case_joints_figure(reviews[2], robot)
+    exceeds = [s for s in fig.shaded if s.severity == "exceeds"]
+    assert [(s.joint, s.row) for s in exceeds] == [("hip", "torque")]
+    assert exceeds[0].t_start_s == pytest.approx(0.135) and exceeds[0].t_end_s == pytest.approx(0.265)
+    assert fig.png[:8] == b"\x89PNG\r\n\x1a\n"  # PNG signature (PNG specification, section 5.2)
+    assert plots.case_joints_figure(reviews[0], robot).shaded == ()  # the within case shades nothing
+    # torque segments are not ground-force limits: the force figure shades nothing for them
+    assert plots.case_force_figure(reviews[2], robot).shaded == ()
+
+
+def test_row_for_limit_names_of_the_checks():
+    assert plots.row_for_limit("joint_range") == "angle"
+    assert plots.row_for_limit("joint_speed") == "speed"
+    for lim in ("peak_torque", "voltage", "peak_current", "winding_temperature"):
+        assert plots.row_for_limit(lim) == "torque"
+    assert plots.row_for_limit("mapping") is None
+    assert plots.is_ground_limit("friction_cone") and plots.is_ground_limit("unilateral_force")
+
+
+def test_caution_text_present_and_never_the_word_safe(reviewed):
+    _, _, html, doc = reviewed
+    text = unescape(" ".join(" ".join(doc.text).split()))
+    for para in CAUTIONS:
+        assert " ".join(para.split()) in text
+    assert not re.search(r"\bsafe\b", text, re.I)
+    alts = " ".join(i.get("alt", "") for i in doc.imgs)
+    assert not re.search(r"\bsafe\b", alts, re.I)
+
+
+def test_identity_and_self_contained(reviewed, robot):
+    _, plan, html, doc = reviewed
+    text = " ".join(doc.text)
+    for needle in (plan.sha256, robot.sha256, robot.name, "200 Hz", "120 s", "10 %", "2025-01-01T12:00:00+00:00"):
+        assert needle in text
+    assert not any(t in ("script", "link", "iframe") for t, _ in doc.tags)
+    for tag, a in doc.tags:
+        for key in ("src", "href"):
+            v = a.get(key, "")
+            assert not v.startswith(("http:", "https:", "//")), (tag, v)
+    assert doc.imgs and all(i["src"].startswith("data:image/png;base64,") for i in doc.imgs)
+    png = base64.b64decode(doc.imgs[0]["src"].split(",", 1)[1])
+    assert png[:8] == b"\x89PNG\r\n\x1a\n"
+    # every column header of the numeric tables carries a unit
+    for name in ("verdicts", "segments"):
+        head = doc.tables[name][0]
+        assert all("[" in h for h in head if h not in ("Case", "Verdict", "Worst limit", "Joint", "Limit", "Severity",
+                                                       "Unit", "Could not be evaluated", "Peak", "Allowed"))
+
+
+def test_sign_off_has_checklist_and_blanks(reviewed):
+    _, _, html, doc = reviewed
+    sign = html[html.index('id="sign-off"'):]
+    for item in ("emergency stop", "tether", "current limits", "reduced amplitude", "clear of the robot"):
+        assert item in sign
+    rows = doc.tables["signoff"]
+    assert rows[0] == ["Role", "Name", "Signature", "Date"]
+    assert all(r[1:] == ["", "", ""] for r in rows[1:]) and len(rows) >= 3
+
+
+def test_a_case_that_could_not_be_evaluated_is_never_within(robot):
+    traj = fakes.trajectory("ik-fail", 10.0)
+    rv = fakes.case_review(traj, robot, findings=("inverse kinematics did not converge at 3 samples",), thermal=False)
+    html = render_report((rv,), fakes.plan_for((traj,)), robot, SETTINGS)
+    doc = Doc()
+    doc.feed(html)
+    rows = doc.tables["verdicts"]
+    col = {n: i for i, n in enumerate(rows[0])}
+    assert rows[1][col["Verdict"]] == VERDICT_NOT_EVALUATED
+    assert "inverse kinematics did not converge" in rows[1][col["Could not be evaluated"]]
+    assert "winding temperature was not computed" in html  # fail closed: missing thermal result said so
+    assert exit_code((rv,)) == 1
+
+
+def test_write_report_is_atomic_and_refuses_overwrite(tmp_path, robot):
+    traj = fakes.trajectory("nominal", 30.0, duration_s=0.1)
+    rv = fakes.case_review(traj, robot)
+    plan = fakes.plan_for((traj,))
+    out = tmp_path / "report.html"
+    write_report((rv,), plan, robot, SETTINGS, out)
+    first = out.read_bytes()
+    with pytest.raises(OutputExistsError, match="report.html"):
+        write_report((rv,), plan, robot, SETTINGS, out)
+    assert out.read_bytes() == first
+    write_report((rv,), plan, robot, SETTINGS, out, force=True, created="x")
+    assert out.read_bytes() != first
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["report.html"]  # no temp file left
+    assert exit_code((rv,)) == 0 and math.isfinite(rv.worst["peak_torque"])
