@@ -24,6 +24,10 @@ from .fields import Table
 from .robot import KNEE_BRANCHES, Joint, Robot, Segment, Spring
 
 
+# Frame names the leg model creates itself (robots.leg_model); a segment may not use them.
+RESERVED_NAMES = ("body", "hip", "foot", "universe", "base_x", "base_z", "base_pitch")
+
+
 def read_bytes(path: str | Path) -> bytes:
     p = Path(path)
     if not p.is_file():
@@ -102,6 +106,10 @@ def robot_from_toml(doc: dict, path: str, sha256: str, *, extra_sections: tuple[
                              found=f"{len(segs_raw) if isinstance(segs_raw, list) else type(segs_raw).__name__}")
     segments = tuple(read_segment(Table(s, path, f"segments[{i}]")) for i, s in enumerate(segs_raw))
     names = [s.name for s in segments]
+    for i, n in enumerate(names):
+        if n in RESERVED_NAMES:
+            raise RobotFileError("segment name is taken by a model frame", path=path, key=f"segments[{i}].name",
+                                 expected=f"a name other than {list(RESERVED_NAMES)}", found=n)
     if len(set(names)) != len(names):
         raise RobotFileError(path=path, key="segments", expected="unique segment names", found=names)
 
