@@ -33,6 +33,7 @@ class RawCase:
     key_template: non-CSV formats, how to name a column, e.g. "cases[0].columns.{column}"
     ground_height_key: how to name the case's ground height in the file
     extra_known: names the format accepts besides validation.KNOWN_COLUMNS (CSV: case, ground_height_m)
+    index_format: how to name sample ``index`` (0-based) / ``index1`` (1-based) after the column key
     """
 
     name: str
@@ -43,6 +44,7 @@ class RawCase:
     key_template: str = "{column}"
     ground_height_key: str = "ground_height_m"
     extra_known: tuple = ()
+    index_format: str = "[{index}]"
 
     def known_columns(self) -> tuple:
         return self.extra_known + validation.KNOWN_COLUMNS
@@ -53,7 +55,7 @@ class RawCase:
             row = self.header_row if index is None else int(self.rows[index])
             return {"row": row, "key": column}
         base = self.ground_height_key if column == "ground_height_m" else self.key_template.format(column=column)
-        return {"row": None, "key": base if index is None else f"{base}[{index}]"}
+        return {"row": None, "key": base if index is None else base + self.index_format.format(index=index, index1=index + 1)}
 
 
 @dataclass
@@ -73,6 +75,7 @@ class RawPlan:
     model: dict | None = None
     policy: dict | None = None
     policy_key: str = "policy"
+    policy_sep: str = "."
 
 
 def axial_to_xz(axial_force_n, leg_angle_rad) -> tuple[np.ndarray, np.ndarray]:
@@ -100,7 +103,7 @@ def _policy(raw: RawPlan, sc) -> Policy | None:
     p = raw.policy
     unknown = [k for k in p if k not in POLICY_COLUMNS]
     if unknown:
-        raise PlanFormatError(f"unknown policy entry '{unknown[0]}'", path=raw.path, key=f"{raw.policy_key}.{unknown[0]}",
+        raise PlanFormatError(f"unknown policy entry '{unknown[0]}'", path=raw.path, key=f"{raw.policy_key}{raw.policy_sep}{unknown[0]}",
                               expected=f"only {list(POLICY_COLUMNS)}", found=unknown[0])
     for k in POLICY_COLUMNS:
         if k not in p:
@@ -109,7 +112,7 @@ def _policy(raw: RawPlan, sc) -> Policy | None:
     n = len(p["time_s"])
     for k in POLICY_COLUMNS:
         v = p[k]
-        key = f"{raw.policy_key}.{k}"
+        key = f"{raw.policy_key}{raw.policy_sep}{k}"
         if len(v) != n:
             raise PlanFormatError("policy entries differ in length", path=raw.path, key=key,
                                   expected=f"{n} values (as time_s)", found=f"{len(v)} values")
@@ -124,16 +127,16 @@ def _policy(raw: RawPlan, sc) -> Policy | None:
     bad = np.flatnonzero(np.diff(t) <= 0)
     if bad.size:
         i = int(bad[0]) + 1
-        raise PlanFormatError("policy time does not increase", path=raw.path, key=f"{raw.policy_key}.time_s[{i}]",
+        raise PlanFormatError("policy time does not increase", path=raw.path, key=f"{raw.policy_key}{raw.policy_sep}time_s[{i}]",
                               expected=f"a time above {t[i - 1]:g} (strictly increasing)", found=float(t[i]))
     if t[0] < 0:
-        raise PlanFormatError("policy time is measured from the apex", path=raw.path, key=f"{raw.policy_key}.time_s[0]",
+        raise PlanFormatError("policy time is measured from the apex", path=raw.path, key=f"{raw.policy_key}{raw.policy_sep}time_s[0]",
                               expected="a time >= 0", found=float(t[0]))
     bad = np.flatnonzero(p["actuator_length_m"] <= 0)
     if bad.size:
         i = int(bad[0])
         raise PlanFormatError("actuator length is not positive", path=raw.path,
-                              key=f"{raw.policy_key}.actuator_length_m[{i}]", expected="a length > 0",
+                              key=f"{raw.policy_key}{raw.policy_sep}actuator_length_m[{i}]", expected="a length > 0",
                               found=float(p["actuator_length_m"][i]))
     si = scaling.scale_columns(p, sc)
     return Policy(**{k: frozen_array(si[k]) for k in POLICY_COLUMNS})

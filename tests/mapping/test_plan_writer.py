@@ -32,7 +32,7 @@ def assert_same_plan(a, b, policy=True):
             np.testing.assert_array_equal(getattr(a.policy, k), getattr(b.policy, k))
 
 
-@pytest.mark.parametrize("ext", [".json"])
+@pytest.mark.parametrize("ext", [".json", ".npz", ".mat"])
 def test_round_trip_with_policy(tmp_path, ext):
     plan = read_plan(FILES / "good.json")
     out = write_plan(plan, tmp_path / f"plan{ext}")
@@ -67,3 +67,40 @@ def test_unknown_extension(tmp_path):
     plan = read_plan(FILES / "good.json")
     with pytest.raises(PlanFormatError, match=r"extension in \['\.csv', '\.json', '\.npz', '\.mat'\], found '\.txt'"):
         write_plan(plan, tmp_path / "plan.txt")
+
+
+@pytest.mark.parametrize("ext", [".csv", ".json", ".npz", ".mat"])
+@pytest.mark.parametrize("source", ["good.csv", "good_nondim.csv"])
+def test_round_trip_without_policy(tmp_path, ext, source):
+    plan = read_plan(FILES / source)
+    back = read_plan(write_plan(plan, tmp_path / f"plan{ext}"))
+    if plan.scaling is None:
+        assert_same_plan(plan, back)
+    else:
+        # written in SI: the scaling is kept as the plan-level values, the samples are unchanged
+        assert back.scaling is None
+        assert back.metadata["nominal_leg_length_m"] == plan.scaling.length_m == 0.64
+        assert back.metadata["mass_kg"] == 25.0 and back.metadata["gravity_m_s2"] == 9.81
+        for k in ("time_s", "leg_length_m", "force_x_n", "force_z_n", "body_vx_m_s", "stance"):
+            np.testing.assert_array_equal(getattr(plan.cases[0], k), getattr(back.cases[0], k), err_msg=k)
+
+
+def test_csv_refuses_cases_with_different_columns(tmp_path):
+    # good.json: the second case has no body_z_m; one CSV header cannot hold both without empty cells
+    import dataclasses
+
+    plan = dataclasses.replace(read_plan(FILES / "good.json"), policy=None)
+    with pytest.raises(PlanFormatError, match="same columns"):
+        write_plan(plan, tmp_path / "plan.csv")
+
+
+def test_nested_metadata_only_in_json(tmp_path):
+    import dataclasses
+
+    plan = read_plan(FILES / "good.csv")
+    nested = dataclasses.replace(plan, metadata={**plan.metadata, "rig": {"treadmill": True}})
+    for ext in (".csv", ".npz", ".mat"):
+        with pytest.raises(PlanFormatError, match=r"'metadata\.rig'.*text or a number"):
+            write_plan(nested, tmp_path / f"plan{ext}")
+    back = read_plan(write_plan(nested, tmp_path / "plan.json"))
+    assert back.metadata["rig"] == {"treadmill": True}
