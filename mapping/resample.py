@@ -12,7 +12,7 @@ phase (t_{i+1}) belongs to the *earlier* segment: the phase of the plan holds un
 shows the other phase (sample-and-hold of the phase flag). Its values come from the earlier
 segment's cubic on its last interval, continued past t_i (at most one plan interval). A segment of a
 single plan sample holds that sample's values with zero rates. Grid samples that coincide with a
-plan sample take that sample's phase.
+plan sample (to within 1e-6 of the finer sample spacing, for rounding) take that sample's phase.
 
 Times [s], lengths [m], angles [rad], forces [N]; arrays shaped (n,).
 """
@@ -85,7 +85,11 @@ def segment_bounds(stance: np.ndarray) -> list[tuple[int, int]]:
 def assign_segments(t_plan: np.ndarray, bounds: list[tuple[int, int]], t_new: np.ndarray) -> np.ndarray:
     """Segment index of each new sample: the last segment whose first plan sample is at or before it."""
     starts = t_plan[[b[0] for b in bounds]]
-    return np.searchsorted(starts, t_new, side="right") - 1
+    # a grid time within rounding (1e-6 of the finer spacing) of a segment's first sample is that sample
+    spacing = np.min(np.diff(t_plan)) if t_plan.shape[0] > 1 else 1.0
+    if t_new.shape[0] > 1:
+        spacing = min(spacing, float(t_new[1] - t_new[0]))
+    return np.searchsorted(starts - 1e-6 * spacing, t_new, side="right") - 1
 
 
 def _pchip_channel(t: np.ndarray, y: np.ndarray, tq: np.ndarray, seg_new: np.ndarray,
