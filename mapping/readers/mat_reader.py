@@ -141,7 +141,7 @@ def read_mat_raw(path: str) -> RawPlan:
                 continue
             key = f"{where}.{k}"
             cols[k] = _phase(v, path, key) if k == validation.PHASE_COLUMN else _vector(v, path, key)
-        cases.append(RawCase(name=name, columns=cols, ground_height_m=gh, key_template=f"{where}.{{column}}",
+        cases.append(RawCase(name=name, columns=cols, ground_height_m=gh, key_template=where.replace("{", "{{").replace("}", "}}") + ".{column}",
                              ground_height_key=f"{where}.ground_height_m", index_format="({index1})"))
     return RawPlan(path=path, sha256=sha, units=units, cases=cases, given=given, metadata=metadata, model=model,
                    policy=policy)
