@@ -12,3 +12,16 @@ def library_path(name: str) -> Path:
 
 def library_names() -> list[str]:
     return sorted(p.name for p in resources.files(__name__).iterdir() if p.name.endswith(".toml"))
+
+
+def resolve_robot(name_or_path) -> Path:
+    """An existing file path as given, else a bundled robot by name ('lab-biped-leg' or 'lab-biped-leg.toml')."""
+    from ..errors import InputFileNotFound
+
+    p = Path(name_or_path)
+    if p.is_file():
+        return p
+    names = library_names()
+    if p.parent == Path(".") and (p.name in names or p.name + ".toml" in names):
+        return library_path(p.name if p.name in names else p.name + ".toml")
+    raise InputFileNotFound("no such file or bundled robot", path=str(p), hint=f"bundled robots: {[n[:-5] for n in names]}")
