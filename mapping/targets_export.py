@@ -1,0 +1,222 @@
+"""Joint targets at the controller rate as CSV, NPZ or JSON (format from the file extension).
+
+Layout: ONE file for all cases, with a ``case`` column naming the case of each row (rows grouped
+by case, in the order given, time increasing within a case). Columns:
+
+    case, time_s, then per joint (robot order) <joint>_position_rad, <joint>_velocity_rad_s,
+    <joint>_torque_nm, <joint>_motor_position_rad, <joint>_current_a, and last ``flags``
+    (the mapping's FLAG_* bits, 0 = nothing flagged)
+
+Metadata (CSV: the first line, ``# legbridge-targets `` followed by one JSON object; NPZ: the array
+``metadata_json``; JSON: the ``metadata`` object): SHA-256 of the plan and robot files
+(plan.sha256, robot.sha256), rate, units per column, the tool version
+(importlib.metadata.version("legbridge")), case names, ground heights, flag counts per case and
+reason, and the plan's scaling when it was nondimensional. JSON writes non-finite numbers as null.
+
+Writing is atomic (a temporary file beside the target, then os.replace); an existing file is not
+overwritten unless ``force=True`` (otherwise legbridge.robots.errors.OutputExistsError).
+"""
+
+from __future__ import annotations
+
+import io
+import json
+import os
+import tempfile
+from pathlib import Path
+
+import numpy as np
+
+from legbridge.robots.errors import LegbridgeError, OutputExistsError
+from legbridge.robots.robot import Robot
+
+from .joint_trajectory import FLAG_NAMES, JointTrajectory
+from .plan import Plan
+
+CSV_METADATA_PREFIX = "# legbridge-targets "
+FORMATS = (".csv", ".npz", ".json")
+JOINT_COLUMNS = (
+    ("position_rad", "q", "rad"),
+    ("velocity_rad_s", "qd", "rad/s"),
+    ("torque_nm", "tau", "N m"),
+    ("motor_position_rad", "motor_position_rad", "rad (motor shaft)"),
+    ("current_a", "current_a", "A (DC-equivalent)"),
+)
+
+
+class TargetsExportError(LegbridgeError, ValueError):
+    """Targets cannot be written as asked (unknown extension, rate mismatch, missing folder)."""
+
+
+def tool_version() -> str:
+    from importlib.metadata import PackageNotFoundError, version
+
+    try:
+        return version("legbridge")
+    except PackageNotFoundError:  # source tree without an install
+        return "0+unknown"
+
+
+def column_names(joint_names) -> list[str]:
+    """The exported columns in order (see the module docstring)."""
+    cols = ["case", "time_s"]
+    for j in joint_names:
+        cols.extend(f"{j}_{suffix}" for suffix, _, _ in JOINT_COLUMNS)
+    return cols + ["flags"]
+
+
+def flag_counts(traj: JointTrajectory) -> dict:
+    """Flagged samples per FLAG_* reason, plus 'any' (samples with at least one flag)."""
+    out = {name: int(np.count_nonzero(traj.flags & bit)) for bit, name in FLAG_NAMES.items()}
+    out["any"] = int(np.count_nonzero(traj.flags))
+    return out
+
+
+def _numeric_block(traj: JointTrajectory) -> np.ndarray:
+    """(n, 1 + 5 j) float block: time, then the joint columns."""
+    parts = [traj.time_s[:, None]]
+    for j in range(traj.n_joints):
+        parts.extend(getattr(traj, attr)[:, j:j + 1] for _, attr, _ in JOINT_COLUMNS)
+    return np.hstack(parts)
+
+
+def build_metadata(trajs, *, plan: Plan, robot: Robot, rate_hz: float) -> dict:
+    """The metadata dictionary written with the targets."""
+    units = {"time_s": "s", "flags": "bit flags (legbridge.mapping.joint_trajectory.FLAG_*)"}
+    for j in robot.joint_names:
+        units.update({f"{j}_{suffix}": unit for suffix, _, unit in JOINT_COLUMNS})
+    meta = {
+        "content": "legbridge joint targets",
+        "tool_version": tool_version(),
+        "plan": {"path": str(plan.path), "sha256": plan.sha256},
+        "robot": {"name": robot.name, "path": robot.source, "sha256": robot.sha256},
+        "rate_hz": float(rate_hz),
+        "layout": "one file, a 'case' column names the case of each row",
+        "columns": column_names(robot.joint_names),
+        "units": units,
+        "joint_names": list(robot.joint_names),
+        "cases": [t.case for t in trajs],
+        "ground_height_m": {t.case: t.ground_height_m for t in trajs},
+        "samples": {t.case: t.n_samples for t in trajs},
+        "flag_counts": {t.case: flag_counts(t) for t in trajs},
+        "flag_bits": {str(bit): name for bit, name in FLAG_NAMES.items()},
+        "conventions": "SI units; x forward, z up; joint angles zero hanging straight down, positive about +y; "
+                       "joint torque applied by the actuator to the child segment, positive about +y",
+    }
+    if plan.scaling is not None:
+        s = plan.scaling
+        meta["scaling"] = {"length_m": s.length_m, "mass_kg": s.mass_kg, "gravity_m_s2": s.gravity_m_s2, "source": s.source}
+    return meta
+
+
+def _csv_text(trajs, meta: dict) -> str:
+    buf = io.StringIO()
+    buf.write(CSV_METADATA_PREFIX + json.dumps(meta, separators=(",", ":")) + "\n")
+    buf.write(",".join(meta["columns"]) + "\n")
+    for t in trajs:
+        name = t.case
+        if any(c in name for c in ',"\n\r'):
+            name = '"' + name.replace('"', '""') + '"'
+        name = name.replace("%", "%%")
+        block = _numeric_block(t)
+        fmt = name + "," + ",".join(["%.12g"] * block.shape[1]) + ",%d"
+        data = np.hstack([block, t.flags[:, None].astype(float)])
+        np.savetxt(buf, data, fmt=fmt, delimiter=",")
+    return buf.getvalue()
+
+
+def _npz_arrays(trajs, meta: dict) -> dict:
+    cols = meta["columns"]
+    blocks = np.vstack([_numeric_block(t) for t in trajs]) if trajs else np.zeros((0, len(cols) - 2))
+    arrays = {"case": np.array([t.case for t in trajs for _ in range(t.n_samples)], dtype=str)}
+    for k, name in enumerate(cols[1:-1]):
+        arrays[name] = blocks[:, k]
+    arrays["flags"] = np.concatenate([t.flags for t in trajs]).astype(np.int64) if trajs else np.zeros(0, np.int64)
+    arrays["metadata_json"] = np.array(json.dumps(meta))
+    return arrays
+
+
+def _json_list(a: np.ndarray) -> list:
+    a = np.asarray(a, dtype=float)
+    out = a.tolist()
+    if not np.all(np.isfinite(a)):
+        out = [v if np.isfinite(v) else None for v in out]
+    return out
+
+
+def _json_doc(trajs, meta: dict) -> dict:
+    cols = meta["columns"]
+    cases = []
+    for t in trajs:
+        block = _numeric_block(t)
+        data = {name: _json_list(block[:, k]) for k, name in enumerate(cols[1:-1])}
+        data["flags"] = [int(v) for v in t.flags]
+        cases.append({"case": t.case, "ground_height_m": t.ground_height_m, "data": data})
+    return {"metadata": meta, "cases": cases}
+
+
+def _write_atomic(path: Path, write) -> None:
+    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".tmp")
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            write(fh)
+        os.replace(tmp, path)
+    except BaseException:
+        if os.path.exists(tmp):
+            os.unlink(tmp)
+        raise
+
+
+def write_targets(trajs, path, *, plan: Plan, robot: Robot, rate_hz: float, force: bool = False) -> Path:
+    """Write the joint targets of ``trajs`` (JointTrajectory, one per case) to ``path``; returns the path.
+
+    The format follows the extension (.csv, .npz, .json). Raises OutputExistsError when the file
+    exists and ``force`` is False, TargetsExportError for an unknown extension, a missing folder or
+    a trajectory whose rate is not ``rate_hz`` [Hz].
+    """
+    p = Path(path)
+    trajs = tuple(trajs)
+    ext = p.suffix.lower()
+    if ext not in FORMATS:
+        raise TargetsExportError("unknown targets format", path=str(p), expected=f"an extension in {list(FORMATS)}", found=p.suffix)
+    if not p.parent.is_dir():
+        raise TargetsExportError("output folder does not exist", path=str(p.parent))
+    if p.exists() and not force:
+        raise OutputExistsError("output file exists", path=str(p), hint="pass --force (force=True) to overwrite it")
+    for t in trajs:
+        if not np.isclose(t.rate_hz, rate_hz, rtol=1e-12, atol=0.0):
+            raise TargetsExportError(f"case '{t.case}' was translated at another rate", key="rate_hz",
+                                     expected=f"{rate_hz:g} Hz", found=t.rate_hz)
+        if tuple(t.joint_names) != tuple(robot.joint_names):
+            raise TargetsExportError(f"case '{t.case}' has other joints than robot '{robot.name}'", key="joint_names",
+                                     expected=list(robot.joint_names), found=list(t.joint_names))
+    meta = build_metadata(trajs, plan=plan, robot=robot, rate_hz=rate_hz)
+    if ext == ".csv":
+        text = _csv_text(trajs, meta).encode("utf-8")
+        _write_atomic(p, lambda fh: fh.write(text))
+    elif ext == ".npz":
+        arrays = _npz_arrays(trajs, meta)
+        _write_atomic(p, lambda fh: np.savez_compressed(fh, **arrays))
+    else:
+        text = json.dumps(_json_doc(trajs, meta), allow_nan=False).encode("utf-8")
+        _write_atomic(p, lambda fh: fh.write(text))
+    return p
+
+
+def read_targets_metadata(path) -> dict:
+    """The metadata of a targets file written by write_targets (any of the three formats)."""
+    p = Path(path)
+    ext = p.suffix.lower()
+    if ext == ".csv":
+        with open(p, encoding="utf-8") as fh:
+            first = fh.readline()
+        if not first.startswith(CSV_METADATA_PREFIX):
+            raise TargetsExportError("not a legbridge targets file", path=str(p), key="line 1",
+                                     expected=repr(CSV_METADATA_PREFIX.strip()), found=first[:40])
+        return json.loads(first[len(CSV_METADATA_PREFIX):])
+    if ext == ".npz":
+        with np.load(p, allow_pickle=False) as z:
+            return json.loads(str(z["metadata_json"]))
+    if ext == ".json":
+        return json.loads(p.read_text(encoding="utf-8"))["metadata"]
+    raise TargetsExportError("unknown targets format", path=str(p), expected=f"an extension in {list(FORMATS)}", found=p.suffix)
