@@ -1,0 +1,73 @@
+"""``legbridge translate``: a plan's cases -> joint targets at the controller rate (CSV, NPZ or JSON).
+
+    legbridge translate PLAN --robot ROBOT [--rate HZ] [--case NAME ...] -o OUT [--force]
+
+PLAN is read with legbridge.mapping.readers.read_plan, ROBOT (a TOML path or a bundled robot name)
+with legbridge.robots.load_robot. Prints a short summary (cases, samples, flagged samples, the
+scaling of a nondimensional plan, where the targets went) and the caution text; exit status 0.
+Bad input raises a LegbridgeError (exit status 2 via legbridge.limits.cli, nothing written).
+Flagged samples (out of reach, singular...) do not change the exit status here: `legbridge check`
+reviews them; they are listed in the summary and counted in the file's metadata.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from legbridge.limits.cautions import caution_lines
+from legbridge.robots.errors import LegbridgeError, OutputExistsError
+
+
+def register(subparsers) -> None:
+    p = subparsers.add_parser("translate", help="translate a plan's cases into joint targets at the controller rate")
+    p.add_argument("plan", metavar="PLAN", help="plan file (.csv, .json, .npz, .mat)")
+    p.add_argument("--robot", required=True, metavar="ROBOT", help="robot TOML file or bundled robot name")
+    p.add_argument("--rate", type=float, default=1000.0, metavar="HZ", help="controller rate in Hz (default 1000)")
+    p.add_argument("--case", action="append", metavar="NAME", help="translate only this case (repeatable)")
+    p.add_argument("-o", "--output", required=True, metavar="OUT", help="targets file to write (.csv, .npz, .json)")
+    p.add_argument("--force", action="store_true", help="overwrite OUT if it exists")
+    p.set_defaults(func=run)
+
+
+def summary_lines(plan, trajs, out: Path, rate_hz: float) -> list[str]:
+    """The terminal summary of one translation."""
+    from legbridge.mapping.joint_trajectory import FLAG_NAMES
+
+    n = sum(t.n_samples for t in trajs)
+    flagged = sum(int((t.flags != 0).sum()) for t in trajs)
+    lines = [f"plan {plan.path}: {len(trajs)} case(s), {n} samples at {rate_hz:g} Hz, {flagged} flagged sample(s)"]
+    if plan.scaling is not None:
+        s = plan.scaling
+        lines.append(f"  nondimensional plan scaled with l0 = {s.length_m:g} m, mass = {s.mass_kg:g} kg, "
+                     f"g = {s.gravity_m_s2:g} m/s^2 (from the {s.source})")
+    for t in trajs:
+        reasons = [f"{int(((t.flags & bit) != 0).sum())} {name}" for bit, name in FLAG_NAMES.items() if ((t.flags & bit) != 0).any()]
+        lines.append(f"  {t.case}: {t.n_samples} samples, {int((t.flags != 0).sum())} flagged"
+                     + (f" ({', '.join(reasons)})" if reasons else ""))
+    lines.append(f"targets written to {out}")
+    return lines
+
+
+def run(args) -> int:
+    from legbridge.mapping.readers import read_plan
+    from legbridge.mapping.targets_export import write_targets
+    from legbridge.mapping.translate import translate_plan
+    from legbridge.robots import load_robot
+    from legbridge.robots.library import resolve_robot
+
+    if not args.rate > 0.0 or args.rate != args.rate or args.rate == float("inf"):
+        raise LegbridgeError("bad controller rate", key="--rate", expected="a positive rate in Hz", found=args.rate)
+    robot_path = resolve_robot(args.robot)
+    out = Path(args.output)
+    if out.resolve() in {Path(args.plan).resolve(), Path(robot_path).resolve()}:
+        raise OutputExistsError("refusing to overwrite an input file", path=str(out))
+    if out.exists() and not args.force:
+        raise OutputExistsError("output file exists", path=str(out), hint="use --force to overwrite it")
+    robot = load_robot(robot_path)
+    plan = read_plan(args.plan, robot=robot)
+    trajs = translate_plan(plan, robot, rate_hz=args.rate, cases=args.case)
+    write_targets(trajs, out, plan=plan, robot=robot, rate_hz=args.rate, force=args.force)
+    print("\n".join(summary_lines(plan, trajs, out, args.rate)))
+    print()
+    print("\n".join(caution_lines()))
+    return 0
