@@ -139,6 +139,10 @@ def _write_csv(plan: Plan, fh, path: str) -> None:
     if model is not None:
         for k, v in _flat(model, path, "model").items():
             lines.append(f"# model.{k} = {v}")
+    for c in plan.cases:
+        if "\n" in c.name or "\r" in c.name or not c.name.strip():
+            raise PlanFormatError("case name cannot be stored in a CSV plan", path=path, key="case",
+                                  expected="a non-empty name on one line", found=c.name)
     first = _case_columns(plan.cases[0])
     names = list(first)
     for c in plan.cases[1:]:
@@ -213,7 +217,10 @@ def plan_to_mat(plan: Plan, path: str = "") -> dict:
 def _write_mat(plan: Plan, fh, path: str) -> None:
     import scipy.io
 
-    scipy.io.savemat(fh, plan_to_mat(plan, path), do_compression=True, oned_as="column")
+    try:
+        scipy.io.savemat(fh, plan_to_mat(plan, path), do_compression=True, oned_as="column")
+    except ValueError as exc:  # e.g. a field name longer than MATLAB allows
+        raise PlanFormatError(f"plan cannot be written as a MAT-file ({exc})", path=path) from exc
 
 
 _WRITERS = {"csv": _write_csv, "json": _write_json, "npz": _write_npz, "mat": _write_mat}

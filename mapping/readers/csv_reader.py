@@ -17,14 +17,16 @@ Columns: required ``time_s``, ``leg_length_m``, ``leg_angle_rad`` and either ``f
 ``force_z_n`` or ``axial_force_n``; optional ``case`` (rows grouped by case; cases in order of first
 appearance; without it the single case is named 'nominal'), ``ground_height_m`` (constant per case,
 default 0), ``phase`` ('stance'/'flight'), ``body_x_m``, ``body_z_m``, ``body_vx_m_s``,
-``body_vz_m_s``, ``actuator_length_m``, ``spring_deflection_m``. Comment lines without '=' and blank
-lines are skipped. Rows in error messages are file line numbers (1-based, as an editor or a
-spreadsheet shows them: the header is row 1 when there are no comment lines).
+``body_vz_m_s``, ``actuator_length_m``, ``spring_deflection_m``. Other comment lines (no '=', or
+no identifier before it) and blank lines are skipped. Rows in error messages are file line numbers
+(1-based, as an editor or a spreadsheet shows them: the header is row 1 when there are no comment
+lines).
 """
 
 from __future__ import annotations
 
 import csv
+import re
 
 import numpy as np
 
@@ -38,6 +40,8 @@ CASE_COLUMN = "case"
 GROUND_COLUMN = "ground_height_m"
 CSV_COLUMNS = (CASE_COLUMN, GROUND_COLUMN) + validation.KNOWN_COLUMNS
 DEFAULT_CASE_NAME = "nominal"
+#: A metadata line is '# key = value' with key of letters, digits, '_' and '.'; other comments are skipped.
+METADATA_KEY = re.compile(r"^[A-Za-z_][A-Za-z0-9_.]*$")
 
 
 def _meta_value(text: str):
@@ -57,8 +61,8 @@ def _parse_metadata(lines: list[tuple[int, str]], path: str):
         if "=" not in body:
             continue
         key, _, value = (s.strip() for s in body.partition("="))
-        if not key:
-            raise PlanFormatError("metadata line without a key", path=path, row=row, expected="'# key = value'", found=line)
+        if not METADATA_KEY.match(key):
+            continue  # a free comment that happens to contain '='
         if key in seen:
             raise PlanFormatError(f"metadata key '{key}' given twice", path=path, row=row, key=key,
                                   expected="each key once", found=f"also on row {seen[key]}")

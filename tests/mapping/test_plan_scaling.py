@@ -55,6 +55,8 @@ def test_l0_and_mass_from_the_robot(example_robot):
     assert drop.time_s[1] == pytest.approx(0.2473519, rel=1e-6)
     # force 2.0 m g = 2 * 22.8 * 9.80665 = 447.1832 N
     assert drop.force_z_n[1] == pytest.approx(447.1832, rel=1e-6)
+    # the file's second comment line contains '=' inside prose: a comment, not a metadata key
+    assert set(plan.metadata) == {"phase_source"}
 
 
 def test_plan_values_win_over_robot_and_sources_are_named(example_robot):
