@@ -267,7 +267,7 @@ def build_planar_from_urdf(src: UrdfSource, tree: UrdfTree, toml_path: str, rang
 
 def _read_urdf_text(path: Path, toml_path: str) -> str:
     if not path.is_file():
-        raise InputFileNotFound("URDF file not found", path=toml_path, key="urdf.file", found=str(path))
+        raise InputFileNotFound(f"URDF file not found: {path}", path=toml_path, key="urdf.file")
     try:
         return path.read_text(encoding="utf-8")
     except UnicodeDecodeError as exc:
