@@ -107,7 +107,7 @@ def test_verdict_table_agrees_with_hand_computed_verdicts(reviewed):
     got = {r[0]: r[col["Verdict"]] for r in body}
     assert got == {"nominal": VERDICT_WITHIN, "step": VERDICT_NEAR, "bump": VERDICT_EXCEEDS}
     bump = next(r for r in body if r[0] == "bump")
-    assert bump[col["Worst limit"]] == "peak_torque" and bump[col["Joint"]] == "hip"
+    assert bump[col["Worst limit"]] == "peak torque" and bump[col["Joint"]] == "hip"
     assert bump[col["Utilisation [%]"]] == f"{100 * 50 / 43.2:.1f} %"  # 115.7 %
     assert exit_code(reviewed[0]) == 1
 
@@ -126,7 +126,7 @@ def test_known_violation_is_in_the_segments_table(reviewed):
     exceeding = [r for r in rows[1:] if r[col["Severity"]] == VERDICT_EXCEEDS]
     assert len(exceeding) == 1
     r = exceeding[0]
-    assert (r[col["Case"]], r[col["Joint"]], r[col["Limit"]], r[col["Unit"]]) == ("bump", "hip", "peak_torque", "N m")
+    assert (r[col["Case"]], r[col["Joint"]], r[col["Limit"]], r[col["Unit"]]) == ("bump", "hip", "peak torque", "N m")
     assert float(r[col["Peak"]]) == pytest.approx(50.0, rel=1e-3)
     assert float(r[col["Allowed"]]) == pytest.approx(43.2, rel=1e-3)
     # The hump 50 sin(pi t / 0.4 s) crosses 43.2 N m at t = (0.4 / pi) asin(0.864) = 0.1327 s; first sample

@@ -1,0 +1,206 @@
+"""``legbridge review``: outputs, exit codes, nothing written on bad input, no overwrite without --force.
+
+Runs the real pipeline (plan reader, translation, checks, JSON, targets, report) on a short synthetic
+SI plan for the invented example leg: one 0.3 s stance per case, the foot passing under the hip at
+mid-stance with leg length 0.72 m and a vertical force hump of 150 N (nominal), 250 N (step-up) and
+400 N (drop). Statics check (moment of a force about a joint, r x F; any statics text, e.g. Meriam and
+Kraige, Engineering Mechanics: Statics, ch. 2): at mid-stance the knee torque is about F h, with h the
+knee's distance from the hip-foot line: Heron's formula on the triangle (0.40 m thigh, 0.42 m shank,
+0.72 m hip-foot) gives h = 0.1961 m, so 400 N needs about 78.4 N m against the knee's peak
+0.9 * 12 * 0.12 N m/A * 40 A = 51.84 N m (the leg's own weight and inertia change this by < 2 %).
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import re
+from html.parser import HTMLParser
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from legbridge.limits.cautions import CAUTIONS, VERDICT_EXCEEDS, VERDICT_NEAR, VERDICT_WITHIN
+from legbridge.limits.cli import main
+from legbridge.limits.report import SECTION_IDS, verdict_words
+from legbridge.limits.results import CheckSettings
+from legbridge.limits.review import REPORT_HTML, REVIEW_JSON, TARGETS_FILE, run_review
+from legbridge.robots.errors import OutputExistsError
+from legbridge.robots.library import library_path
+
+ROBOT = str(library_path("example-leg.toml"))
+OUTPUTS = sorted([REVIEW_JSON, REPORT_HTML, TARGETS_FILE])
+
+
+def _case(name, peak_n, ground_height_m=0.0, n=61, stance_s=0.3):
+    t = np.linspace(0.0, stance_s, n)
+    s = np.sin(math.pi * t / stance_s)
+    angle = 0.25 * np.cos(math.pi * t / stance_s)  # foot ahead at touchdown, under the hip at mid-stance
+    fz = peak_n * s
+    return {"name": name, "ground_height_m": ground_height_m, "columns": {
+        "time_s": t.tolist(), "leg_length_m": (0.78 - 0.06 * s).tolist(), "leg_angle_rad": angle.tolist(),
+        "force_x_n": (-fz * np.tan(angle)).tolist(), "force_z_n": fz.tolist(), "phase": ["stance"] * n}}
+
+
+def _plan_file(path: Path, cases) -> str:
+    doc = {"format": "legbridge.plan/1", "units": "si", "metadata": {"description": "invented test plan"},
+           "cases": cases}
+    path.write_text(json.dumps(doc))
+    return str(path)
+
+
+@pytest.fixture(scope="module")
+def three_case_plan(tmp_path_factory):
+    d = tmp_path_factory.mktemp("plan")
+    return _plan_file(d / "plan.json", [_case("nominal", 150.0), _case("step-up", 250.0, 0.02), _case("drop", 400.0, -0.03)])
+
+
+@pytest.fixture(scope="module")
+def reviewed(three_case_plan, tmp_path_factory):
+    out = tmp_path_factory.mktemp("review") / "out"
+    import io
+    from contextlib import redirect_stdout
+
+    buf = io.StringIO()
+    with redirect_stdout(buf):
+        code = main(["review", three_case_plan, "--robot", ROBOT, "-o", str(out), "--rate", "200"])
+    return code, out, buf.getvalue()
+
+
+class _Cells(HTMLParser):
+    def __init__(self):
+        super().__init__()
+        self.ids, self.rows, self._row, self._cell, self._table = [], [], None, None, None
+
+    def handle_starttag(self, tag, attrs):
+        a = dict(attrs)
+        if "id" in a:
+            self.ids.append(a["id"])
+        if tag == "table":
+            self._table = a.get("class")
+        if tag == "tr" and self._table == "verdicts":
+            self._row = []
+        if tag in ("td", "th") and self._row is not None:
+            self._cell = []
+
+    def handle_endtag(self, tag):
+        if tag in ("td", "th") and self._cell is not None:
+            self._row.append(" ".join("".join(self._cell).split()))
+            self._cell = None
+        if tag == "tr" and self._row is not None:
+            self.rows.append(self._row)
+            self._row = None
+        if tag == "table":
+            self._table = None
+
+    def handle_data(self, data):
+        if self._cell is not None:
+            self._cell.append(data)
+
+
+def test_review_with_a_violation_exits_1_and_writes_everything(reviewed):
+    code, out, stdout = reviewed
+    assert code == 1
+    assert sorted(p.name for p in out.iterdir()) == OUTPUTS  # no staging or temporary file left
+    doc = json.loads((out / REVIEW_JSON).read_text())
+    verdicts = {c["name"]: c["verdict"] for c in doc["cases"]}
+    assert verdicts == {"nominal": "within", "step-up": "near", "drop": "exceeds"}
+    # statics at mid-stance (module docstring): knee torque about F h = 400 N * 0.1961 m = 78.4 N m
+    drop = next(c for c in doc["cases"] if c["name"] == "drop")
+    knee = [s for s in drop["segments"] if s["limit"] == "peak_torque" and s["joint"] == "knee" and s["severity"] == "exceeds"]
+    assert len(knee) == 1
+    s_, a_, b_ = (0.40 + 0.42 + 0.72) / 2, 0.40, 0.42
+    h = 2 * math.sqrt(s_ * (s_ - a_) * (s_ - b_) * (s_ - 0.72)) / 0.72
+    assert knee[0]["peak"] == pytest.approx(400.0 * h, rel=0.02)
+    assert knee[0]["allowed"] == pytest.approx(0.9 * 12 * 0.12 * 40, rel=1e-9)
+
+
+def test_report_sections_cases_and_verdicts_agree_with_the_json(reviewed):
+    _, out, _ = reviewed
+    html = (out / REPORT_HTML).read_text()
+    p = _Cells()
+    p.feed(html)
+    assert [i for i in p.ids if i in SECTION_IDS] == list(SECTION_IDS)
+    for case in ("nominal", "step-up", "drop"):
+        assert f"case-{case}" in p.ids
+    col = {n: i for i, n in enumerate(p.rows[0])}
+    table = {r[0]: r[col["Verdict"]] for r in p.rows[1:]}
+    assert table == {"nominal": VERDICT_WITHIN, "step-up": VERDICT_NEAR, "drop": VERDICT_EXCEEDS}
+    sha = json.loads((out / REVIEW_JSON).read_text())["plan_sha256"]
+    assert sha in html
+
+
+def test_terminal_summary(reviewed):
+    _, out, stdout = reviewed
+    for line in ("nominal", "step-up", "drop"):
+        assert re.search(rf"^\s+{re.escape(line)}\s", stdout, re.M)
+    assert VERDICT_EXCEEDS in stdout and VERDICT_NEAR in stdout and VERDICT_WITHIN in stdout
+    assert str(out / REPORT_HTML) in stdout
+    assert "Worst findings:" in stdout and "drop / knee / peak_torque: exceeds" in stdout
+    assert " ".join(CAUTIONS[0].split()[:6]) in " ".join(stdout.split())
+    assert not re.search(r"\bsafe\b", stdout, re.I)
+
+
+def test_within_plan_exits_0(tmp_path, capsys):
+    plan = _plan_file(tmp_path / "easy.json", [_case("nominal", 150.0, n=31)])
+    assert main(["review", plan, "--robot", ROBOT, "-o", str(tmp_path / "out"), "--rate", "100"]) == 0
+    assert VERDICT_WITHIN in capsys.readouterr().out
+    assert sorted(p.name for p in (tmp_path / "out").iterdir()) == OUTPUTS
+
+
+@pytest.mark.parametrize("bad", ["broken-json", "missing-plan", "missing-robot", "margin", "rate", "both-demo-and-plan"])
+def test_bad_input_exits_2_and_writes_nothing(tmp_path, capsys, three_case_plan, bad):
+    out = tmp_path / "out"
+    broken = tmp_path / "broken.json"
+    broken.write_text('{"format": "legbridge.plan/1", "units": "si", "cases": [')
+    args = {
+        "broken-json": ["review", str(broken), "--robot", ROBOT],
+        "missing-plan": ["review", str(tmp_path / "nope.json"), "--robot", ROBOT],
+        "missing-robot": ["review", three_case_plan, "--robot", str(tmp_path / "nope.toml")],
+        "margin": ["review", three_case_plan, "--robot", ROBOT, "--margin", "1.5"],
+        "rate": ["review", three_case_plan, "--robot", ROBOT, "--rate", "-5"],
+        "both-demo-and-plan": ["review", three_case_plan, "--demo", "--robot", ROBOT],
+    }[bad]
+    assert main(args + ["-o", str(out)]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith("legbridge: error:") and "Traceback" not in err
+    assert not out.exists()
+
+
+def test_no_overwrite_without_force(reviewed, three_case_plan, capsys):
+    _, out, _ = reviewed
+    before = {p.name: p.read_bytes() for p in out.iterdir()}
+    assert main(["review", three_case_plan, "--robot", ROBOT, "-o", str(out), "--rate", "200"]) == 2
+    assert "--force" in capsys.readouterr().err
+    assert {p.name: p.read_bytes() for p in out.iterdir()} == before
+
+
+def test_force_overwrites_and_api_outcome(three_case_plan, tmp_path):
+    out = tmp_path / "out"
+    out.mkdir()
+    (out / REPORT_HTML).write_text("old")
+    (out / "notes.txt").write_text("the user's own file")
+    with pytest.raises(OutputExistsError, match="report.html"):
+        run_review(three_case_plan, ROBOT, CheckSettings(rate_hz=100.0), out)
+    seen = []
+    res = run_review(three_case_plan, ROBOT, CheckSettings(rate_hz=100.0), out, force=True, progress=seen.append)
+    assert res.exit_code == 1 and [r.case for r in res.reviews] == ["nominal", "step-up", "drop"]
+    assert [verdict_words(r) for r in res.reviews] == [VERDICT_WITHIN, VERDICT_NEAR, VERDICT_EXCEEDS]
+    assert (out / REPORT_HTML).read_text() != "old" and (out / "notes.txt").read_text() == "the user's own file"
+    assert set(res.paths) == {"review", "targets", "report"} and all(p.is_file() for p in res.paths.values())
+    assert any("checking case drop" in m for m in seen)
+
+
+def test_demo_review(tmp_path, capsys):
+    pytest.importorskip("legbridge.mapping.slip.demo")
+    out = tmp_path / "demo"
+    code = main(["review", "--demo", "-o", str(out)])
+    assert code in (0, 1)
+    names = sorted(p.name for p in out.iterdir())
+    assert names == sorted(OUTPUTS + ["demo-plan.json"])
+    doc = json.loads((out / REVIEW_JSON).read_text())
+    import hashlib
+
+    assert doc["plan_sha256"] == hashlib.sha256((out / "demo-plan.json").read_bytes()).hexdigest()
+    assert "invented" in capsys.readouterr().out
