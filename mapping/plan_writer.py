@@ -10,8 +10,9 @@ so ``read_plan(write_plan(plan, p))`` gives back the same cases, metadata and po
 - Reader-made metadata (``phase_source``) is left out.
 - The file is written to a temporary file in the same folder and moved into place with
   ``os.replace``; an existing file is refused (OutputExistsError) unless ``force=True``.
-- CSV holds no policy and only flat metadata; writing such a plan to CSV is refused
-  (PlanFormatError) rather than losing data. NPZ and MAT hold flat metadata only (text, numbers).
+- CSV holds no policy and only flat metadata (text, numbers); writing such a plan to CSV is refused
+  (PlanFormatError) rather than losing data. NPZ and MAT store metadata entries that are not text or
+  numbers (tables, lists, true/false, null) as JSON text under ``metadata_json`` / ``model_json``.
 """
 
 from __future__ import annotations
@@ -88,11 +89,30 @@ def _flat(d: dict, path: str, group: str) -> dict:
                                   expected="a name of letters, digits and '_' starting with a letter", found=k)
         if isinstance(v, bool) or not isinstance(v, (str, int, float, np.integer, np.floating)):
             raise PlanFormatError(f"{group} value cannot be stored in this format", path=path, key=f"{group}.{k}",
-                                  expected="text or a number (use .json for nested values)", found=type(v).__name__)
+                                  expected="text or a number (write .json, .npz or .mat for other values)", found=type(v).__name__)
         if isinstance(v, str) and ("\n" in v or "\r" in v):
             raise PlanFormatError(f"{group} value cannot be stored in this format", path=path, key=f"{group}.{k}",
                                   expected="text on one line", found=v)
     return d
+
+
+def _split(d: dict, path: str, group: str) -> tuple[dict, dict]:
+    """(text/number entries, JSON text of every other entry) for the NPZ and MAT layouts."""
+    flat, as_json = {}, {}
+    for k, v in d.items():
+        if not isinstance(k, str) or not _KEY.match(k):
+            raise PlanFormatError(f"{group} key cannot be stored in this format", path=path, key=f"{group}.{k}",
+                                  expected="a name of letters, digits and '_' starting with a letter", found=k)
+        if isinstance(v, (str, int, float, np.integer, np.floating)) and not isinstance(v, (bool, np.bool_)):
+            flat[k] = v
+            continue
+        try:
+            as_json[k] = json.dumps(v, allow_nan=False)
+        except (TypeError, ValueError) as exc:
+            raise PlanFormatError(f"{group} value cannot be stored", path=path, key=f"{group}.{k}",
+                                  expected="text, numbers, true/false, null, lists and tables of them",
+                                  found=type(v).__name__) from exc
+    return flat, as_json
 
 
 # ---- JSON -----------------------------------------------------------------------------------------
@@ -169,12 +189,15 @@ def plan_to_npz(plan: Plan, path: str = "") -> dict:
     arrays = {"format": np.array(FORMAT_TAG), "units": np.array("si")}
     for k, v in _scale_entries(plan).items():
         arrays[f"meta/{k}"] = np.array(float(v))
-    for k, v in _flat(_free_metadata(plan), path, "metadata").items():
-        arrays[f"metadata/{k}"] = np.array(v)
-    model = _model(plan)
-    if model is not None:
-        for k, v in _flat(model, path, "model").items():
-            arrays[f"model/{k}"] = np.array(v)
+    groups = {"metadata": _free_metadata(plan), "model": _model(plan)}
+    for group, d in groups.items():
+        if d is None:
+            continue
+        flat, as_json = _split(d, path, group)
+        for k, v in flat.items():
+            arrays[f"{group}/{k}"] = np.array(v)
+        for k, v in as_json.items():
+            arrays[f"{group}_json/{k}"] = np.array(v)
     if plan.policy is not None:
         for k in POLICY_COLUMNS:
             arrays[f"policy/{k}"] = np.asarray(getattr(plan.policy, k), dtype=float)
@@ -196,12 +219,15 @@ def plan_to_mat(plan: Plan, path: str = "") -> dict:
     """The variables of the MAT-file layout (legbridge.mapping.readers.mat_reader), name -> value."""
     out = {"format": FORMAT_TAG, "units": "si"}
     out.update(_scale_entries(plan))
-    meta = _flat(_free_metadata(plan), path, "metadata")
-    if meta:
-        out["metadata"] = meta
-    model = _model(plan)
-    if model is not None:
-        out["model"] = _flat(model, path, "model")
+    groups = {"metadata": _free_metadata(plan), "model": _model(plan)}
+    for group, d in groups.items():
+        if d is None or (group == "metadata" and not d):
+            continue
+        flat, as_json = _split(d, path, group)
+        if flat:
+            out[group] = flat
+        if as_json:
+            out[f"{group}_json"] = as_json
     if plan.policy is not None:
         out["policy"] = {k: np.asarray(getattr(plan.policy, k), dtype=float) for k in POLICY_COLUMNS}
     cells = np.empty((1, len(plan.cases)), dtype=object)
@@ -219,6 +245,8 @@ def _write_mat(plan: Plan, fh, path: str) -> None:
 
     try:
         scipy.io.savemat(fh, plan_to_mat(plan, path), do_compression=True, oned_as="column")
+    except PlanFormatError:
+        raise
     except ValueError as exc:  # e.g. a field name longer than MATLAB allows
         raise PlanFormatError(f"plan cannot be written as a MAT-file ({exc})", path=path) from exc
 

@@ -6,7 +6,9 @@ Variables (MATLAB notation; keys as in the CSV/JSON formats)::
     units                  char     'si' | 'nondimensional'                   required
     nominal_leg_length_m, mass_kg, gravity_m_s2   double scalars           optional (scaling)
     metadata               struct   free fields (text or numbers) -> Plan.metadata
-    model                  struct   spring-mass parameters -> Plan.metadata['model']
+    metadata_json          struct   fields holding JSON text of any other value (tables, lists,
+                                    true/false, null) -> Plan.metadata, decoded
+    model, model_json      struct   spring-mass parameters -> Plan.metadata['model'], the same way
     policy                 struct   .time_s, .actuator_length_m, .touchdown_angle_rad (vectors)
     cases                  1xN cell array of structs (or 1xN struct array), one per case:
         .name              char     case name                                  required
@@ -32,9 +34,9 @@ from legbridge.mapping.errors import PlanFormatError
 
 from . import scaling, validation
 from .json_reader import FORMAT_TAG
-from .raw import RawCase, RawPlan, as_float_array, read_file_bytes
+from .raw import RawCase, RawPlan, as_float_array, merge_json_entries, read_file_bytes
 
-TOP_VARIABLES = ("format", "units") + scaling.SCALE_KEYS + ("metadata", "model", "policy", "cases")
+TOP_VARIABLES = ("format", "units") + scaling.SCALE_KEYS + ("metadata", "metadata_json", "model", "model_json", "policy", "cases")
 CASE_FIELDS = ("name", "ground_height_m") + validation.KNOWN_COLUMNS
 
 
@@ -107,6 +109,15 @@ def read_mat_raw(path: str) -> RawPlan:
     model = None
     if "model" in doc:
         model = {k: _scalar(v, path, f"model.{k}") for k, v in _struct(doc["model"], path, "model").items()}
+    for group in ("metadata", "model"):
+        if f"{group}_json" in doc:
+            texts = {k: _text(v, path, f"{group}_json.{k}")
+                     for k, v in _struct(doc[f"{group}_json"], path, f"{group}_json").items()}
+            merged = merge_json_entries(metadata if group == "metadata" else model, texts, path, group, ".")
+            if group == "metadata":
+                metadata = merged
+            else:
+                model = merged
     policy = None
     if "policy" in doc:
         policy = {k: _vector(v, path, f"policy.{k}") for k, v in _struct(doc["policy"], path, "policy").items()}

@@ -12,7 +12,8 @@ Flat layout, one array per entry (``i`` = 0, 1, ... in case order; names in ``ca
     cases/<i>/ground_height_m    0-d float the case's ground height     optional (default 0)
     meta/nominal_leg_length_m, meta/mass_kg, meta/gravity_m_s2   0-d float   optional (scaling)
     metadata/<key>               0-d text or number  -> Plan.metadata[key]
-    model/<key>                  0-d text or number  -> Plan.metadata['model'][key]
+    metadata_json/<key>          0-d text, JSON of any other value (table, list, true/false, null)
+    model/<key>, model_json/<key>   the same for Plan.metadata['model'][key]
     policy/time_s, policy/actuator_length_m, policy/touchdown_angle_rad   1-d float  optional
 
 Object (pickled) arrays are refused: they can run code when loaded.
@@ -29,9 +30,9 @@ from legbridge.mapping.errors import PlanFormatError
 
 from . import scaling, validation
 from .json_reader import FORMAT_TAG
-from .raw import RawCase, RawPlan, as_float_array, read_file_bytes
+from .raw import RawCase, RawPlan, as_float_array, merge_json_entries, read_file_bytes
 
-GROUPS = ("meta", "metadata", "model", "policy", "cases")
+GROUPS = ("meta", "metadata", "metadata_json", "model", "model_json", "policy", "cases")
 TOP_NAMES = ("format", "units", "case_names")
 
 
@@ -98,6 +99,7 @@ def read_npz_raw(path: str) -> RawPlan:
     names = [str(n) for n in names_arr.tolist()]
 
     given, metadata, model, policy = {}, {}, None, None
+    texts = {"metadata": {}, "model": {}}
     cols_by_case = [dict() for _ in names]
     gh = [None] * len(names)
     for name, arr in arrays.items():
@@ -110,6 +112,8 @@ def read_npz_raw(path: str) -> RawPlan:
             given[key] = scaling.positive_number(_scalar(arr, path, name), path, name)
         elif parts[0] == "metadata":
             metadata["/".join(parts[1:])] = _scalar(arr, path, name)
+        elif parts[0] in ("metadata_json", "model_json"):
+            texts[parts[0][: -len("_json")]]["/".join(parts[1:])] = _text(arr, path, name)
         elif parts[0] == "model":
             model = model or {}
             model["/".join(parts[1:])] = _scalar(arr, path, name)
@@ -136,6 +140,8 @@ def read_npz_raw(path: str) -> RawPlan:
                                       expected=f"only known columns {list(validation.KNOWN_COLUMNS)}", found=col)
             else:
                 cols_by_case[i][col] = as_float_array(arr, path, name)
+    metadata = merge_json_entries(metadata, texts["metadata"], path, "metadata", "/")
+    model = merge_json_entries(model, texts["model"], path, "model", "/")
     cases = [
         RawCase(name=n, columns=cols_by_case[i], ground_height_m=gh[i], key_template=f"cases/{i}/{{column}}",
                 ground_height_key=f"cases/{i}/ground_height_m")

@@ -243,3 +243,24 @@ def as_float_array(values, path: str, key: str) -> np.ndarray:
         raise PlanFormatError("not a number", path=path, key=f"{key}[{bad}]", expected="a number",
                               found=v)
     return np.asarray(values, dtype=float)
+
+
+def merge_json_entries(flat: dict | None, texts: dict, path: str, group: str, sep: str) -> dict | None:
+    """``flat`` plus each JSON text in ``texts`` decoded (NPZ/MAT ``<group>_json`` entries)."""
+    import json
+
+    if not texts:
+        return flat
+    out = dict(flat or {})
+    for k, text in texts.items():
+        key = f"{group}_json{sep}{k}"
+        if k in out:
+            raise PlanFormatError(f"'{k}' given twice", path=path, key=key, expected=f"each key once in {group} and {group}_json",
+                                  found=f"also {group}{sep}{k}")
+        if not isinstance(text, str):
+            raise PlanFormatError(path=path, key=key, expected="JSON text", found=type(text).__name__)
+        try:
+            out[k] = json.loads(text)
+        except json.JSONDecodeError as exc:
+            raise PlanFormatError(f"not valid JSON ({exc.msg})", path=path, key=key) from exc
+    return out

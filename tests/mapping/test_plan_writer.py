@@ -94,13 +94,17 @@ def test_csv_refuses_cases_with_different_columns(tmp_path):
         write_plan(plan, tmp_path / "plan.csv")
 
 
-def test_nested_metadata_only_in_json(tmp_path):
+def test_nested_metadata_kept_except_in_csv(tmp_path):
+    # tables, lists, true/false and null survive JSON, NPZ and MAT (as JSON text there); CSV refuses them
     import dataclasses
 
     plan = read_plan(FILES / "good.csv")
-    nested = dataclasses.replace(plan, metadata={**plan.metadata, "rig": {"treadmill": True}})
-    for ext in (".csv", ".npz", ".mat"):
-        with pytest.raises(PlanFormatError, match=r"'metadata\.rig'.*text or a number"):
-            write_plan(nested, tmp_path / f"plan{ext}")
-    back = read_plan(write_plan(nested, tmp_path / "plan.json"))
-    assert back.metadata["rig"] == {"treadmill": True}
+    extra = {"rig": {"treadmill": True, "reason": None}, "heights_m": [0.0, -0.03]}
+    nested = dataclasses.replace(plan, metadata={**plan.metadata, **extra})
+    with pytest.raises(PlanFormatError, match=r"'metadata\.rig'.*text or a number"):
+        write_plan(nested, tmp_path / "plan.csv")
+    for ext in (".json", ".npz", ".mat"):
+        back = read_plan(write_plan(nested, tmp_path / f"plan{ext}"))
+        assert back.metadata["rig"] == {"treadmill": True, "reason": None}, ext
+        assert back.metadata["heights_m"] == [0.0, -0.03], ext
+        assert back.metadata["scenario"] == plan.metadata["scenario"], ext
