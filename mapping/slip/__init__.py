@@ -6,6 +6,7 @@ Point-mass body at the hip; massless leg = length actuator in series with a damp
 a :class:`legbridge.mapping.plan.Plan`. Conventions and units: see legbridge.mapping.plan.
 """
 
+from legbridge.mapping.slip.demo import demo_plan
 from legbridge.mapping.slip.errors import SlipInputError
 from legbridge.mapping.slip.params import SpringMassParams
 from legbridge.mapping.slip.policy import (
@@ -21,6 +22,7 @@ from legbridge.mapping.slip.to_plan import (
     case_name,
     initial_apex_from_plan,
     params_from_plan,
+    plan_for_flat_formats,
     plan_from_results,
     policy_from_plan,
     simulate_cases,
@@ -36,10 +38,12 @@ __all__ = [
     "SlipInputError",
     "SpringMassParams",
     "case_name",
+    "demo_plan",
     "initial_apex_from_plan",
     "linear_retraction",
     "make_policy",
     "params_from_plan",
+    "plan_for_flat_formats",
     "plan_from_results",
     "policy_from_functions",
     "policy_from_plan",

@@ -112,6 +112,17 @@ def simulate_cases(
     return plan_from_results(params, policy, apex, results, metadata=metadata, path=path)
 
 
+def plan_for_flat_formats(plan: Plan) -> Plan:
+    """The same cases without the policy and with nested metadata values as one-line JSON text,
+    for the plan formats that hold flat metadata only (CSV). ``metadata['model']`` is kept as is."""
+    meta = {}
+    for k, v in plan.metadata.items():
+        if k != "model" and (isinstance(v, (dict, list, tuple)) or v is None):
+            v = json.dumps(v, sort_keys=True, separators=(",", ":"))
+        meta[k] = v
+    return Plan(path=plan.path, sha256=plan.sha256, cases=plan.cases, scaling=plan.scaling, metadata=meta, policy=None)
+
+
 def params_from_plan(plan: Plan) -> SpringMassParams:
     """The spring-mass parameters stored in ``plan.metadata['model']``."""
     model = plan.metadata.get("model") if isinstance(plan.metadata, dict) else None
@@ -148,6 +159,7 @@ __all__ = [
     "case_name",
     "initial_apex_from_plan",
     "params_from_plan",
+    "plan_for_flat_formats",
     "plan_from_results",
     "policy_from_plan",
     "simulate_cases",

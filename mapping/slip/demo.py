@@ -1,0 +1,70 @@
+"""The invented demo scenario: a 25 kg lab biped hopping forward at about 1.5 m/s.
+
+INVENTED NUMBERS, for demonstrations and tests only; they describe no real robot. Nominal leg length
+0.70 m, four ground-height cases (-0.08, -0.04, 0 and +0.04 m), one shared open-loop policy:
+swing-leg retraction at 3 rad/s from 0.457 rad at the apex, and an actuator stroke of 0.062 m from
+0.15 s after the apex that puts back the energy the damper takes. The +0.08 m step-up case is left
+out: with this policy it falls (the body is thrown backward after the third hop).
+"""
+
+from __future__ import annotations
+
+from legbridge.mapping.plan import Plan
+from legbridge.mapping.slip.params import SpringMassParams
+from legbridge.mapping.slip.policy import linear_retraction, policy_from_functions, stroke_profile
+from legbridge.mapping.slip.results import ApexState
+from legbridge.mapping.slip.to_plan import simulate_cases
+
+DEMO_HEIGHTS_M = (-0.08, -0.04, 0.0, 0.04)
+LEFT_OUT_HEIGHTS_M = (0.08,)
+DEMO_DURATION_S = 2.0
+DEMO_RATE_HZ = 500.0
+DEMO_DESCRIPTION = (
+    "INVENTED demo scenario (no real robot): 25 kg lab biped hopping forward at about 1.5 m/s on a "
+    "0.70 m spring-mass leg, ground-height cases sharing one open-loop policy"
+)
+
+
+def demo_params() -> SpringMassParams:
+    """Invented spring-mass parameters of the demo biped."""
+    return SpringMassParams(
+        mass_kg=25.0,
+        stiffness_n_per_m=6000.0,
+        damping_n_s_per_m=200.0,
+        nominal_leg_length_m=0.70,
+        min_leg_length_m=0.40,
+        gravity_m_s2=9.81,
+        max_time_between_apexes_s=2.0,
+    )
+
+
+def demo_policy():
+    """Invented open-loop policy, sampled every 10 ms over 0.8 s after the apex."""
+    return policy_from_functions(
+        stroke_profile(rest_length_m=0.70, stroke_m=0.062, start_s=0.15, rise_s=0.08, hold_s=0.03, fall_s=0.10),
+        linear_retraction(angle_at_apex_rad=0.457, retraction_rate_rad_s=3.0, min_angle_rad=-0.3),
+        horizon_s=0.8,
+        step_s=0.01,
+    )
+
+
+def demo_apex() -> ApexState:
+    """Initial apex: hip 0.72 m above the nominal ground, 1.5 m/s forward."""
+    return ApexState(x_m=0.0, z_m=0.72, vx_m_s=1.5)
+
+
+def demo_plan(heights_m=DEMO_HEIGHTS_M) -> Plan:
+    """The demo plan in memory (deterministic): one case per ground height, model and policy attached."""
+    return simulate_cases(
+        demo_params(),
+        demo_policy(),
+        demo_apex(),
+        heights_m,
+        duration_s=DEMO_DURATION_S,
+        rate_hz=DEMO_RATE_HZ,
+        metadata={"description": DEMO_DESCRIPTION, "invented": "yes"},
+        path="<legbridge demo plan>",
+    )
+
+
+__all__ = ["DEMO_HEIGHTS_M", "LEFT_OUT_HEIGHTS_M", "demo_apex", "demo_params", "demo_plan", "demo_policy"]
