@@ -92,46 +92,25 @@ def assign_segments(t_plan: np.ndarray, bounds: list[tuple[int, int]], t_new: np
     return np.searchsorted(starts - 1e-6 * spacing, t_new, side="right") - 1
 
 
-def _pchip_channel(t: np.ndarray, y: np.ndarray, tq: np.ndarray, seg_new: np.ndarray,
-                   bounds: list[tuple[int, int]], yd: np.ndarray | None = None) -> Channel:
-    """Per-segment PCHIP of y (and, when ``yd`` is given, rate and acceleration from PCHIP of yd)."""
-    val = np.empty_like(tq)
-    rate = np.empty_like(tq)
-    acc = np.empty_like(tq)
-    for k, (a, b) in enumerate(bounds):
-        sel = seg_new == k
+def pchip_segments(t: np.ndarray, y: np.ndarray, tq: np.ndarray, seg_new: np.ndarray,
+                   bounds: list[tuple[int, int]]) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Per-segment PCHIP of the columns of y (n_plan, k) at tq: values, first and second derivatives (m, k).
+
+    One interpolant per segment for all columns (each column is interpolated independently).
+    """
+    m, k = tq.shape[0], y.shape[1]
+    val, d1, d2 = np.empty((m, k)), np.empty((m, k)), np.empty((m, k))
+    for i, (a, b) in enumerate(bounds):
+        sel = seg_new == i
         if not sel.any():
             continue
-        ts = tq[sel]
         if b - a == 1:
-            val[sel] = y[a]
-            rate[sel] = 0.0 if yd is None else yd[a]
-            acc[sel] = 0.0
+            val[sel], d1[sel], d2[sel] = y[a], 0.0, 0.0
             continue
-        p = PchipInterpolator(t[a:b], y[a:b], extrapolate=True)
-        val[sel] = p(ts)
-        if yd is None:
-            rate[sel] = p(ts, 1)
-            acc[sel] = p(ts, 2)
-        else:
-            pv = PchipInterpolator(t[a:b], yd[a:b], extrapolate=True)
-            rate[sel] = pv(ts)
-            acc[sel] = pv(ts, 1)
-    return Channel(frozen_array(val), frozen_array(rate), frozen_array(acc))
-
-
-def _body_channel(ch, pos, vel, t):
-    """Body motion along one axis: None when the plan gives neither position nor velocity.
-
-    With only the velocity given, the position channel is 0 (the dynamics of a translating base do
-    not depend on where it is; only its acceleration enters).
-    """
-    if pos is None and vel is None:
-        return None
-    if pos is None:
-        c = ch(np.zeros_like(t), vel)
-        return c
-    return ch(pos, vel)
+        p = PchipInterpolator(t[a:b], y[a:b], axis=0, extrapolate=True)
+        ts = tq[sel]
+        val[sel], d1[sel], d2[sel] = p(ts), p(ts, 1), p(ts, 2)
+    return val, d1, d2
 
 
 def resample_case(case: ReducedTrajectory, rate_hz: float) -> ResampledCase:
@@ -151,22 +130,39 @@ def resample_case(case: ReducedTrajectory, rate_hz: float) -> ResampledCase:
     seg = assign_segments(t, bounds, tq)
     stance_seg = np.array([bool(case.stance[a]) for a, _ in bounds])
 
-    def ch(y, yd=None):
-        return _pchip_channel(t, np.asarray(y, dtype=float), tq, seg, bounds,
-                              None if yd is None else np.asarray(yd, dtype=float))
+    zeros = np.zeros_like(t)
+    columns = {"l": case.leg_length_m, "a": case.leg_angle_rad, "fx": case.force_x_n, "fz": case.force_z_n}
+    for axis, pos, vel in (("x", case.body_x_m, case.body_vx_m_s), ("z", case.body_z_m, case.body_vz_m_s)):
+        if pos is not None or vel is not None:
+            # with only the velocity given the position is 0: a translating base's dynamics do not
+            # depend on where it is, only its acceleration enters
+            columns["b" + axis] = zeros if pos is None else pos
+        if vel is not None:
+            columns["v" + axis] = vel
+    names = list(columns)
+    val, d1, d2 = pchip_segments(t, np.column_stack([np.asarray(columns[c], dtype=float) for c in names]), tq, seg, bounds)
+    col = {c: i for i, c in enumerate(names)}
 
-    fx = ch(case.force_x_n).value
-    fz = ch(case.force_z_n).value
-    body_x = _body_channel(ch, case.body_x_m, case.body_vx_m_s, t)
-    body_z = _body_channel(ch, case.body_z_m, case.body_vz_m_s, t)
+    def channel(c: str) -> Channel:
+        i = col[c]
+        return Channel(frozen_array(val[:, i]), frozen_array(d1[:, i]), frozen_array(d2[:, i]))
+
+    def body(axis: str) -> Channel | None:
+        if "b" + axis not in col:
+            return None
+        if "v" + axis not in col:  # rate and acceleration from the position interpolant
+            return channel("b" + axis)
+        iv = col["v" + axis]
+        return Channel(frozen_array(val[:, col["b" + axis]]), frozen_array(val[:, iv]), frozen_array(d1[:, iv]))
+
     return ResampledCase(
         time_s=frozen_array(tq),
         stance=frozen_array(stance_seg[seg], dtype=bool),
         segment=frozen_array(seg, dtype=int),
-        leg_length=ch(case.leg_length_m),
-        leg_angle=ch(case.leg_angle_rad),
-        force_x_n=fx,
-        force_z_n=fz,
-        body_x=body_x,
-        body_z=body_z,
+        leg_length=channel("l"),
+        leg_angle=channel("a"),
+        force_x_n=frozen_array(val[:, col["fx"]]),
+        force_z_n=frozen_array(val[:, col["fz"]]),
+        body_x=body("x"),
+        body_z=body("z"),
     )
