@@ -23,7 +23,7 @@ class ReviewUsageError(LegbridgeError, ValueError):
 def register(sub) -> None:
     p = sub.add_parser("review", help=HELP, description=HELP[0].upper() + HELP[1:] + ".")
     p.add_argument("plan", nargs="?", metavar="PLAN", help="plan file (.csv, .json, .npz, .mat)")
-    p.add_argument("--robot", metavar="ROBOT", help="robot description file")
+    p.add_argument("--robot", metavar="ROBOT", help="robot description file, or the name of a bundled robot")
     p.add_argument("--demo", action="store_true",
                    help="review the bundled demo leg with the built-in demo plan (invented data)")
     p.add_argument("-o", "--out", metavar="DIR", required=True, help="output folder for the review")
@@ -103,12 +103,9 @@ def run(args: argparse.Namespace) -> int:
     if args.demo:
         outcome = run_demo_review(settings, args.out, force=args.force, progress=progress)
     else:
-        from legbridge.robots.errors import InputFileNotFound
-        from pathlib import Path
+        from legbridge.robots.library import resolve_robot
 
-        for key, p in (("PLAN", args.plan), ("--robot", args.robot)):
-            if not Path(p).is_file():
-                raise InputFileNotFound(path=p, key=key, expected="an existing file", found="nothing at that path")
-        outcome = run_review(args.plan, args.robot, settings, args.out, force=args.force, progress=progress)
+        robot_path = resolve_robot(args.robot)  # a file, or a bundled robot by name
+        outcome = run_review(args.plan, robot_path, settings, args.out, force=args.force, progress=progress)
     print("\n".join(summary_lines(outcome)))
     return outcome.exit_code

@@ -15,7 +15,7 @@ from html import escape
 from legbridge.limits.cautions import CAUTIONS
 
 from . import plots
-from .summary import SEVERITY_WORDS, VERDICT_CLASS, joint_label, ranked, verdict_words, worst_of
+from .summary import SEVERITY_WORDS, VERDICT_CLASS, joint_label, limit_label, ranked, verdict_words, worst_of
 
 SECTION_IDS = ("caution-and-identity", "verdicts", "cases", "torque-speed", "thermal", "segments", "sign-off")
 
@@ -127,11 +127,11 @@ def verdicts(reviews) -> str:
         body.append(_row([
             f'<a href="#case-{slug(r.case)}">{escape(r.case)}</a>', (num(r.ground_height_m), "num"),
             (escape(v), f"verdict {VERDICT_CLASS[v]}"),
-            escape(w.limit) if w else "not evaluated", escape(joint_label(w.joint)) if w else "&ndash;",
+            escape(limit_label(w.limit)) if w else "not evaluated", escape(joint_label(w.joint)) if w else "&ndash;",
             (pct(w.utilisation) if w else "not evaluated", "num"), (str(len(r.segments)), "num"), findings,
         ]))
     order = "".join(f"<li>{escape(r.case)}: {escape(verdict_words(r))}"
-                    f"{', worst ' + escape(worst_of(r).limit) + ' at ' + pct(worst_of(r).utilisation) if worst_of(r) else ''}</li>"
+                    f"{', worst ' + escape(limit_label(worst_of(r).limit)) + ' at ' + pct(worst_of(r).utilisation) if worst_of(r) else ''}</li>"
                     for r in ranked(reviews))
     return (f'<section id="verdicts"><h2>2. Verdict per case</h2>'
             f'<p>Utilisation is the planned value divided by the allowed value at the same sample (100 % = at the limit). '
@@ -198,9 +198,10 @@ def segments(reviews) -> str:
     """Section 6: every flagged segment of every case."""
     head = _row(["Case", "Joint", "Limit", "Severity", ("Start [s]", "num"), ("End [s]", "num"), ("Peak", "num"),
                  ("Allowed", "num"), "Unit", ("Utilisation [%]", "num")], header=True)
-    segs = sorted((s for r in reviews for s in r.segments), key=lambda s: (s.case, s.t_start_s, s.joint, s.limit))
+    order = {r.case: i for i, r in enumerate(reviews)}  # plan order, then time
+    segs = sorted((s for r in reviews for s in r.segments), key=lambda s: (order.get(s.case, 0), s.t_start_s, s.joint, s.limit))
     body = "".join(_row([
-        escape(s.case), escape(joint_label(s.joint)), escape(s.limit),
+        escape(s.case), escape(joint_label(s.joint)), escape(limit_label(s.limit)),
         (escape(SEVERITY_WORDS.get(s.severity, s.severity)), "verdict " + ("v-exceeds" if s.severity == "exceeds" else "v-near")),
         (num(s.t_start_s, ".4f"), "num"), (num(s.t_end_s, ".4f"), "num"), (num(s.peak), "num"), (num(s.allowed), "num"),
         escape(s.unit), (pct(s.utilisation), "num")]) for s in segs)
@@ -213,7 +214,7 @@ def signoff(robot) -> str:
     """Section 7: the reviewed drive values, a generic checklist deferring to the lab's rules, blanks to sign."""
     from legbridge.robots.actuator_limits import max_joint_speed, max_joint_torque
 
-    head = _row(["Joint", ("Peak current [A]", "num"), ("Continuous current [A]", "num"), ("Drive voltage [V]", "num"),
+    head = _row(["Joint", ("Peak current [A]", "num"), ("Continuous current [A]", "num"), ("Winding voltage, DC-equivalent [V]", "num"),
                  ("Peak torque [N m]", "num"), ("Max joint speed [rad/s]", "num"), ("Range [rad]", "num")], header=True)
     body = "".join(_row([
         escape(j.name), (num(j.actuator.peak_current_a), "num"), (num(j.actuator.continuous_current_a), "num"),

@@ -91,6 +91,11 @@ def ranked(reviews) -> list:
     return sorted(reviews, key=key)
 
 
+def limit_label(limit: str) -> str:
+    """A limit name as printed: 'peak_torque' -> 'peak torque'."""
+    return str(limit).replace("_", " ")
+
+
 def joint_label(joint: str) -> str:
     return joint if joint else "whole leg"
 

@@ -113,7 +113,8 @@ def test_review_with_a_violation_exits_1_and_writes_everything(reviewed):
     s_, a_, b_ = (0.40 + 0.42 + 0.72) / 2, 0.40, 0.42
     h = 2 * math.sqrt(s_ * (s_ - a_) * (s_ - b_) * (s_ - 0.72)) / 0.72
     assert knee[0]["peak"] == pytest.approx(400.0 * h, rel=0.02)
-    assert knee[0]["allowed"] == pytest.approx(0.9 * 12 * 0.12 * 40, rel=1e-9)
+    # peak torque 0.9 * 12 * 0.12 * 40 = 51.84 N m less the rotor-inertia torque J_r N qdd (a few per cent)
+    assert 0.97 * 51.84 < knee[0]["allowed"] <= 51.84 + 1e-9
 
 
 def test_report_sections_cases_and_verdicts_agree_with_the_json(reviewed):
@@ -195,7 +196,7 @@ def test_force_overwrites_and_api_outcome(three_case_plan, tmp_path):
 def test_demo_review(tmp_path, capsys):
     pytest.importorskip("legbridge.mapping.slip.demo")
     out = tmp_path / "demo"
-    code = main(["review", "--demo", "-o", str(out)])
+    code = main(["review", "--demo", "-o", str(out), "--rate", "200"])
     assert code in (0, 1)
     names = sorted(p.name for p in out.iterdir())
     assert names == sorted(OUTPUTS + ["demo-plan.json"])
