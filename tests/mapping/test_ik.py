@@ -144,3 +144,46 @@ def test_dls_round_trip_on_an_offset_leg_is_continuous():
         np.testing.assert_allclose(data.oMf[leg.foot_frame_id].translation[[0, 2]], target, atol=1e-9)
     assert np.max(np.abs(np.diff(sol.q, axis=0))) < 0.05  # warm start: no branch jumps
     assert np.all(sol.q[:, 1] < 0)
+
+
+def test_dls_three_joints_holds_pitch_like_the_closed_form(example_robot):
+    import dataclasses
+
+    from legbridge.robots.leg_model import build_leg_model
+    from legbridge.robots.robot import Segment
+
+    segs = (Segment("thigh", 0.35, 2.0, 0.15, 0.03), Segment("shank", 0.35, 0.8, 0.15, 0.01), Segment("pes", 0.10, 0.3, 0.05, 0.001))
+    ankle = dataclasses.replace(example_robot.joints[1], name="ankle")
+    leg = build_leg_model(dataclasses.replace(example_robot, segments=segs, joints=example_robot.joints + (ankle,)))
+    p = leg_vector(np.linspace(0.45, 0.7, 10), np.linspace(-0.3, 0.3, 10))
+    ref = chain_ik(p, leg.link_lengths_m, "backward", 0.15)
+    sol = dls_ik(leg, p, knee="backward", foot_pitch_rad=0.15)
+    np.testing.assert_allclose(sol.q, ref.q, atol=1e-8)
+    assert np.all(sol.flags == 0)
+
+
+def test_general_path_on_an_offset_leg(example_robot):
+    # URDF-like geometry (knee 3 cm ahead of the thigh axis): DLS IK and Pinocchio Jacobians per sample.
+    from legbridge.mapping.plan import ReducedTrajectory
+    from legbridge.mapping.translate import is_straight_chain, translate
+
+    leg = offset_leg()
+    assert not is_straight_chain(leg)
+    t = np.arange(0.0, 0.5 + 1e-12, 1 / 200)  # invented hop: 0.2 s stance then flight
+    stance = t < 0.2
+    s = np.where(stance, t / 0.2, (t - 0.2) / 0.3)
+    l = np.where(stance, 0.68 - 0.05 * np.sin(np.pi * s), 0.68)
+    a = np.where(stance, 0.3 - 0.6 * s, -0.3 + 0.6 * s)
+    fz = np.where(stance, 700.0 * np.sin(np.pi * s), 0.0)
+    case = ReducedTrajectory("hop", t, l, a, -0.2 * fz, fz, stance)
+    jt = translate(case, example_robot, rate_hz=5000.0, leg_model=leg)
+    assert np.all(jt.flags == 0)
+    data = leg.model.createData()
+    target = leg_vector(case.leg_length_m, case.leg_angle_rad)
+    for k in range(0, case.n_samples, 7):  # Reference: Pinocchio forward kinematics reaches the plan's foot point
+        pin.framesForwardKinematics(leg.model, data, leg.full_q(np.zeros(3), jt.q[25 * k]))
+        np.testing.assert_allclose(data.oMf[leg.foot_frame_id].translation[[0, 2]], target[k], atol=1e-9)
+    fd = (jt.q[2:] - jt.q[:-2]) * 2500.0  # check only: central differences
+    same = jt.stance[2:] == jt.stance[:-2]
+    np.testing.assert_allclose(jt.qd[1:-1][same], fd[same], atol=3e-3 * np.abs(jt.qd).max())
+    np.testing.assert_allclose(jt.tau, jt.tau_free - np.einsum("nij,ni->nj", jt.jacobian, jt.foot_force_n), atol=1e-9)
