@@ -105,7 +105,8 @@ def dls_ik(leg: LegModel, hip_targets, *, knee: str, foot_pitch_rad: float = 0.0
     LOCAL_WORLD_ALIGNED (rows x, z; for three joints also the pitch row, target foot_pitch_rad
     relative to the zero pose) after forward kinematics. Samples whose residual stays above
     ``tol_m`` after ``max_iter`` steps are flagged FLAG_IK_NOT_CONVERGED (FLAG_UNREACHABLE too when
-    the distance is beyond the summed link lengths); singular Jacobians are flagged FLAG_SINGULAR.
+    the distance is beyond the summed link lengths). Singular poses are flagged by the caller
+    (mapping.translate, from the Jacobian determinant), not here.
     """
     model = leg.model
     data = model.createData()
@@ -152,8 +153,7 @@ def solve_rates(a_mat: np.ndarray, rhs: np.ndarray, singular: np.ndarray, scale:
     x = A^T (A A^T + lam^2 I)^-1 b with lam = SINGULAR_TOL * scale on singular samples and 0
     elsewhere (then x = A^-1 b exactly). Keeps velocities finite at a straight leg.
     """
-    m = a_mat.shape[-1]
     lam2 = np.where(singular, (SINGULAR_TOL * scale) ** 2, 0.0)[:, None, None]
     aat = a_mat @ np.swapaxes(a_mat, -1, -2) + lam2 * np.eye(a_mat.shape[-2])
     y = np.linalg.solve(aat, rhs[..., None])[..., 0]
-    return np.einsum("nij,ni->nj", a_mat, y)[:, :m]
+    return np.einsum("nij,ni->nj", a_mat, y)
