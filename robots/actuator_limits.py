@@ -130,7 +130,7 @@ def max_joint_speed(joint: Joint) -> BoundSource:
         BoundSource(no_load_motor_speed_rad_s(act) / act.gear_ratio, "no-load speed (back-EMF)"),
     ]
     if joint.velocity_limit_rad_s is not None:
-        cands.append(BoundSource(joint.velocity_limit_rad_s, "joint velocity limit (URDF)"))
+        cands.append(BoundSource(joint.velocity_limit_rad_s, f"joint velocity limit ({joint.velocity_limit_source})"))
     return min(cands, key=lambda b: b.value)
 
 
@@ -138,7 +138,7 @@ def max_joint_torque(joint: Joint) -> BoundSource:
     """Tightest static joint torque bound [N m]: drive peak current or a joint-side effort limit."""
     cands = [BoundSource(peak_joint_torque_nm(joint.actuator), "drive peak current")]
     if joint.effort_limit_nm is not None:
-        cands.append(BoundSource(joint.effort_limit_nm, "joint effort limit (URDF)"))
+        cands.append(BoundSource(joint.effort_limit_nm, f"joint effort limit ({joint.effort_limit_source})"))
     return min(cands, key=lambda b: b.value)
 
 

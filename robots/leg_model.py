@@ -79,8 +79,8 @@ def index_model(model: pin.Model, leg_joints: tuple[str, ...], foot_frame: str, 
     v_index = np.array([model.joints[jid(n)].idx_v for n in leg_joints])
     bq = np.array([model.joints[jid(n)].idx_q for n in BASE_JOINTS])
     bv = np.array([model.joints[jid(n)].idx_v for n in BASE_JOINTS])
-    foot_id = model.getFrameId(foot_frame)
-    hip_id = model.getFrameId(hip_frame)
+    foot_id = model.getFrameId(foot_frame, pin.FrameType.OP_FRAME)
+    hip_id = model.getFrameId(hip_frame, pin.FrameType.OP_FRAME)
     data = model.createData()
     pin.framesForwardKinematics(model, data, pin.neutral(model))
     pts = [data.oMi[jid(n)].translation for n in leg_joints] + [data.oMf[foot_id].translation]

@@ -112,7 +112,8 @@ class Joint:
 
     lower_rad, upper_rad: hard stops [rad]
     velocity_limit_rad_s, effort_limit_nm: extra joint-side bounds (e.g. URDF ``<limit>``); the
-        tighter of these and the actuator-derived values applies (see robots.actuator_limits).
+        tighter of these and the actuator-derived values applies (see robots.actuator_limits);
+        *_source says where each came from ('robot file' or 'URDF')
     """
 
     name: str
@@ -122,6 +123,8 @@ class Joint:
     spring: Spring | None = None
     velocity_limit_rad_s: float | None = None
     effort_limit_nm: float | None = None
+    velocity_limit_source: str = "robot file"
+    effort_limit_source: str = "robot file"
 
 
 @dataclass(frozen=True)

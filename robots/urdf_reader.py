@@ -296,14 +296,20 @@ def _read_chain_joint(name: str, t: Table, urdf_lim: tuple, urdf_path: str, warn
     if lower >= upper:
         raise RobotFileError(f"empty joint range (TOML and URDF {urdf_path} limits combined)", path=t.path,
                              key=t.key("upper_rad"), expected=f"a value above lower_rad ({lower:g})", found=upper)
+    toml_vel = t.number("velocity_limit_rad_s", None, positive=True)
+    toml_eff = t.number("effort_limit_nm", None, positive=True)
+    vel = _tighter(toml_vel, u_vel, min)
+    eff = _tighter(toml_eff, u_eff, min)
     joint = Joint(
         name=name,
         lower_rad=lower,
         upper_rad=upper,
         actuator=read_actuator(t),
         spring=read_spring(t),
-        velocity_limit_rad_s=_tighter(t.number("velocity_limit_rad_s", None, positive=True), u_vel, min),
-        effort_limit_nm=_tighter(t.number("effort_limit_nm", None, positive=True), u_eff, min),
+        velocity_limit_rad_s=vel,
+        effort_limit_nm=eff,
+        velocity_limit_source="robot file" if vel is not None and vel == toml_vel else "URDF",
+        effort_limit_source="robot file" if eff is not None and eff == toml_eff else "URDF",
     )
     t.refuse_unknown()
     return joint
