@@ -53,14 +53,14 @@ def _progress_printer(stream):
 def summary_lines(outcome) -> list[str]:
     """The terminal summary of a review outcome (no colour, no word 'safe')."""
     from legbridge.limits.cautions import caution_lines
-    from legbridge.limits.report.summary import joint_label, ranked, verdict_words, worst_of, worst_segments
+    from legbridge.limits.report.summary import joint_label, limit_label, pct_text, ranked, verdict_words, worst_of, worst_segments
 
     plan, robot = outcome.plan, outcome.robot
     lines = [f"legbridge review: plan {plan.path} (SHA-256 {plan.sha256[:12]}...) on robot {robot.name}", ""]
     width = max((len(r.case) for r in outcome.reviews), default=4)
     for r in outcome.reviews:
         w = worst_of(r)
-        worst = f"worst {w.limit} ({joint_label(w.joint)}) at {100 * w.utilisation:.1f} %" if w else "worst: not evaluated"
+        worst = f"worst {limit_label(w.limit)} ({joint_label(w.joint)}): {pct_text(w.utilisation)}" if w else "worst: not evaluated"
         lines.append(f"  {r.case:<{width}}  {verdict_words(r):<28} {worst}")
         for f in r.findings:
             lines.append(f"  {'':<{width}}  could not be evaluated: {f}")
@@ -68,11 +68,11 @@ def summary_lines(outcome) -> list[str]:
     lines += ["", f"Ranking, worst first: {order}"]
     segs = worst_segments(outcome.reviews)
     if segs:
-        lines.append("Worst findings:")
+        lines.append("Worst findings (the worst segment of each limit and joint):")
         for s in segs:
             lines.append(f"  {s.case} / {joint_label(s.joint)} / {s.limit}: {s.severity}, "
-                         f"{s.t_start_s:.3f}-{s.t_end_s:.3f} s, peak {s.peak:.4g} {s.unit} against {s.allowed:.4g} {s.unit} "
-                         f"({100 * s.utilisation:.1f} %)")
+                         f"{s.t_start_s:.3f}-{s.t_end_s:.3f} s, peak {s.peak:.4g} {s.unit} against {s.allowed:.4g} {s.unit}, "
+                         f"utilisation {pct_text(s.utilisation)}")
     else:
         lines.append("No segment of any case is near or beyond a modelled limit.")
     lines += ["", f"Report:  {outcome.paths['report']}", f"Results: {outcome.paths['review']}",

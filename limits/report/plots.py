@@ -30,6 +30,24 @@ DPI = 96
 
 # Rows of the per-case joint figure: (key, label with unit)
 ROWS = (("angle", "angle [rad]"), ("speed", "speed [rad/s]"), ("torque", "torque [N m]"))
+UNITS = {"angle": "rad", "speed": "rad/s", "torque": "N m"}
+
+
+def scale_limits(lo: float, hi: float, values) -> tuple[float, float, bool]:
+    """y range of a panel: the limit band and the data, but at most one band width beyond each limit.
+
+    Keeps the limit lines readable when a few samples spike far beyond them. Returns (y_lo, y_hi,
+    off_scale) where off_scale says some values lie outside the range returned.
+    """
+    v = np.asarray(values, dtype=float)
+    v = v[np.isfinite(v)]
+    width = hi - lo if hi > lo else max(abs(hi), abs(lo), 1.0)
+    dmin = float(v.min()) if v.size else lo
+    dmax = float(v.max()) if v.size else hi
+    cap_lo, cap_hi = lo - width, hi + width
+    ylo, yhi = max(min(lo, dmin), cap_lo), min(max(hi, dmax), cap_hi)
+    pad = 0.06 * (yhi - ylo)
+    return ylo - pad, yhi + pad, bool(dmin < ylo - pad or dmax > yhi + pad)
 
 
 @dataclass(frozen=True)
@@ -171,6 +189,7 @@ def case_joints_figure(review, robot) -> Figure:
     axes = fig.subplots(3, nj, sharex=True, squeeze=False)
     dt = _dt(t)
     severities: set[str] = set()
+    notes: list[str] = []
     for j, name in enumerate(names):
         joint = robot.joint(name)
         act = joint.actuator
@@ -189,16 +208,23 @@ def case_joints_figure(review, robot) -> Figure:
                 ax.plot(t, np.clip(hi_v, -10 * tmax, 10 * tmax), color=LIMIT, linewidth=0.9, linestyle="--")
                 ax.plot(t, np.clip(lo_v, -10 * tmax, 10 * tmax), color=LIMIT, linewidth=0.9, linestyle="--")
             ax.plot(t, series[key], color=PLAN, linewidth=1.3)
-            span = max(hi - lo, float(np.nanmax(np.abs(series[key]))) if np.isfinite(series[key]).any() else 0.0)
             y = series[key][np.isfinite(series[key])]
             if key == "torque":  # the envelope lines are part of what the reader compares against
                 env = np.concatenate([hi_v, lo_v])
                 env = env[np.isfinite(env) & (np.abs(env) <= 1.5 * tmax)]
                 y = np.concatenate([y, env])
-            ylo = min(lo, float(y.min()) if y.size else lo)
-            yhi = max(hi, float(y.max()) if y.size else hi)
-            pad = 0.06 * (yhi - ylo if yhi > ylo else max(span, 1.0))
-            ax.set_ylim(ylo - pad, yhi + pad)
+            ylo, yhi, off = scale_limits(lo, hi, y)
+            ax.set_ylim(ylo, yhi)
+            if off:
+                v = series[key]
+                above, below = v > yhi, v < ylo
+                ax.plot(t[above], np.full(int(above.sum()), yhi), linestyle="none", marker="^", markersize=4,
+                        color=INK, clip_on=False)
+                ax.plot(t[below], np.full(int(below.sum()), ylo), linestyle="none", marker="v", markersize=4,
+                        color=INK, clip_on=False)
+                vmin, vmax_ = float(np.nanmin(v)), float(np.nanmax(v))
+                notes.append(f"{name} {key}: values from {vmin:.4g} to {vmax_:.4g} {UNITS[key]} reach beyond the plotted "
+                             f"scale; the triangles at the panel edge mark those samples.")
             if j == 0:
                 ax.set_ylabel(label)
             if r == 0:
@@ -227,7 +253,7 @@ def case_joints_figure(review, robot) -> Figure:
     fig.suptitle(f"Case {review.case}: joint targets against the modelled limits", fontsize=10, color=INK)
     alt = (f"Joint angle, speed and torque of case {review.case} against time for joints {', '.join(names)}, "
            f"with limit lines; {len(review.segments)} flagged segment(s) shaded.")
-    return Figure(f"case-{review.case}-joints", _png(fig), alt, tuple(shaded))
+    return Figure(f"case-{review.case}-joints", _png(fig), alt, tuple(shaded), tuple(notes))
 
 
 def _achievable_force(review) -> tuple[np.ndarray | None, str]:

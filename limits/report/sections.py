@@ -15,7 +15,7 @@ from html import escape
 from legbridge.limits.cautions import CAUTIONS
 
 from . import plots
-from .summary import SEVERITY_WORDS, VERDICT_CLASS, joint_label, limit_label, ranked, verdict_words, worst_of
+from .summary import SEVERITY_WORDS, VERDICT_CLASS, exceeded_limits, joint_label, limit_label, ranked, verdict_words, worst_of
 
 SECTION_IDS = ("caution-and-identity", "verdicts", "cases", "torque-speed", "thermal", "segments", "sign-off")
 
@@ -50,7 +50,7 @@ def pct(u) -> str:
     if u is None or math.isnan(float(u)):
         return "not evaluated"
     if math.isinf(float(u)):
-        return "not finite (counted as exceeding)"
+        return "not finite"
     return f"{100.0 * float(u):.1f}&nbsp;%"
 
 
@@ -118,7 +118,7 @@ def caution_identity(plan, robot, settings, *, version: str, created: str) -> st
 def verdicts(reviews) -> str:
     """Section 2: per-case verdict table, worst limit and utilisation, and the ranking."""
     head = _row(["Case", "Ground height [m]", "Verdict", "Worst limit", "Joint", ("Utilisation [%]", "num"),
-                 ("Segments flagged [-]", "num"), "Could not be evaluated"], header=True)
+                 "Limits exceeded", ("Segments [-]", "num"), "Could not be evaluated"], header=True)
     body = []
     for r in reviews:
         v = verdict_words(r)
@@ -128,14 +128,17 @@ def verdicts(reviews) -> str:
             f'<a href="#case-{slug(r.case)}">{escape(r.case)}</a>', (num(r.ground_height_m), "num"),
             (escape(v), f"verdict {VERDICT_CLASS[v]}"),
             escape(limit_label(w.limit)) if w else "not evaluated", escape(joint_label(w.joint)) if w else "&ndash;",
-            (pct(w.utilisation) if w else "not evaluated", "num"), (str(len(r.segments)), "num"), findings,
+            (pct(w.utilisation) if w else "not evaluated", "num"), escape(exceeded_limits(r)) or "&ndash;",
+            (str(len(r.segments)), "num"), findings,
         ]))
     order = "".join(f"<li>{escape(r.case)}: {escape(verdict_words(r))}"
                     f"{', worst ' + escape(limit_label(worst_of(r).limit)) + ' at ' + pct(worst_of(r).utilisation) if worst_of(r) else ''}</li>"
                     for r in ranked(reviews))
     return (f'<section id="verdicts"><h2>2. Verdict per case</h2>'
             f'<p>Utilisation is the planned value divided by the allowed value at the same sample (100 % = at the limit). '
-            f'"Near" means within the margin below a limit. A case that could not be fully evaluated is not counted as within the limits.</p>'
+            f'"Near" means within the margin below a limit. "Not finite" means the allowed value was zero or a value could not be '
+            f'computed at some sample; such a sample counts as exceeding. A case that could not be fully evaluated is not '
+            f'counted as within the limits.</p>'
             f'<table class="verdicts">{head}{"".join(body)}</table>'
             f'<h3>Ranking, worst case first</h3><ol class="ranking">{order}</ol></section>')
 

@@ -101,10 +101,35 @@ def joint_label(joint: str) -> str:
 
 
 def worst_segments(reviews, n: int = 5) -> list:
-    """The n segments with the highest utilisation over all cases (exceeds before near)."""
+    """The n worst segments over all cases (exceeds before near, then utilisation), one per (joint, limit)."""
     segs = [s for r in reviews for s in r.segments]
-    segs.sort(key=lambda s: (s.severity != SEVERITY_EXCEEDS, -s.utilisation))
-    return segs[:n]
+    segs.sort(key=lambda s: (s.severity != SEVERITY_EXCEEDS, -s.utilisation, s.t_start_s))
+    seen, out = set(), []
+    for s in segs:
+        if (s.joint, s.limit) not in seen:
+            seen.add((s.joint, s.limit))
+            out.append(s)
+    return out[:n]
+
+
+def exceeded_limits(review) -> str:
+    """The limits a case exceeds with their joints, e.g. 'peak torque (hip, knee); voltage (knee)'."""
+    by_limit: dict[str, list[str]] = {}
+    for s in review.segments:
+        if s.severity == SEVERITY_EXCEEDS:
+            joints = by_limit.setdefault(limit_label(s.limit), [])
+            if joint_label(s.joint) not in joints:
+                joints.append(joint_label(s.joint))
+    return "; ".join(f"{lim} ({', '.join(j)})" for lim, j in by_limit.items())
+
+
+def pct_text(u: float) -> str:
+    """Utilisation as plain text: '115.7 %', or words when it is not finite (fail closed)."""
+    if u is None or math.isnan(u):
+        return "not evaluated"
+    if math.isinf(u):
+        return "not finite (counted as exceeding)"
+    return f"{100.0 * u:.1f} %"
 
 
 def exit_code(reviews) -> int:

@@ -184,7 +184,7 @@ def test_identity_and_self_contained(reviewed, robot):
     for name in ("verdicts", "segments"):
         head = doc.tables[name][0]
         assert all("[" in h for h in head if h not in ("Case", "Verdict", "Worst limit", "Joint", "Limit", "Severity",
-                                                       "Unit", "Could not be evaluated", "Peak", "Allowed"))
+                                                       "Unit", "Could not be evaluated", "Peak", "Allowed", "Limits exceeded"))
 
 
 def test_sign_off_has_checklist_and_blanks(reviewed):
