@@ -9,10 +9,16 @@ derivatives) are the interpolants' analytic derivatives, not finite differences.
 Gap rule (samples between two segments). The new time grid is t0 + k / rate. A grid sample that
 falls strictly between the last plan sample of one phase (t_i) and the first plan sample of the next
 phase (t_{i+1}) belongs to the *earlier* segment: the phase of the plan holds until a plan sample
-shows the other phase (sample-and-hold of the phase flag). Its values come from the earlier
-segment's cubic on its last interval, continued past t_i (at most one plan interval). A segment of a
-single plan sample holds that sample's values with zero rates. Grid samples that coincide with a
-plan sample (to within 1e-6 of the finer sample spacing, for rounding) take that sample's phase.
+shows the other phase (sample-and-hold of the phase flag). Its kinematic values (leg length and
+angle, body motion) come from the earlier segment's cubic on its last interval, continued past t_i
+(at most one plan interval), so the earlier phase's motion holds until the new phase starts and the
+velocity step of a touchdown stays a step. Ground forces are not continued that way (a stance force
+falling to zero at liftoff, continued as a cubic, turns negative): in the gap after a stance segment
+the force goes linearly from the last stance sample to the next plan sample, and on every flight
+sample it is zero (flight carries no force), so a force step at touchdown is not smeared into the
+flight before it. A segment of a single plan sample holds that sample's values with zero rates.
+Grid samples that coincide with a plan sample (to within 1e-6 of the finer sample spacing, for
+rounding) take that sample's phase.
 
 Times [s], lengths [m], angles [rad], forces [N]; arrays shaped (n,).
 """
@@ -113,6 +119,23 @@ def pchip_segments(t: np.ndarray, y: np.ndarray, tq: np.ndarray, seg_new: np.nda
     return val, d1, d2
 
 
+def gap_bridged_force(t: np.ndarray, f: np.ndarray, plan_stance: np.ndarray, tq: np.ndarray,
+                      f_segment: np.ndarray, stance: np.ndarray) -> np.ndarray:
+    """A force channel on the grid under the gap rule [N].
+
+    t, f, plan_stance: the plan's times, force and phase flags; tq, stance: the grid and its phase;
+    f_segment: the per-segment interpolant's values on the grid. Grid times inside a plan interval
+    whose two samples differ in phase take the straight line between those samples; flight samples
+    take zero.
+    """
+    k = np.clip(np.searchsorted(t, tq, side="right") - 1, 0, t.shape[0] - 2)
+    ps = np.asarray(plan_stance, dtype=bool)
+    in_gap = (ps[k] != ps[k + 1]) & (tq > t[k])
+    w = (tq - t[k]) / (t[k + 1] - t[k])
+    out = np.where(in_gap, f[k] + w * (f[k + 1] - f[k]), f_segment)
+    return np.where(stance, out, 0.0)
+
+
 def resample_case(case: ReducedTrajectory, rate_hz: float) -> ResampledCase:
     """Resample one case to ``rate_hz`` [Hz], phase-aware (see the module docstring for the gap rule)."""
     if not np.isfinite(rate_hz) or rate_hz <= 0.0:
@@ -129,6 +152,7 @@ def resample_case(case: ReducedTrajectory, rate_hz: float) -> ResampledCase:
     tq = time_grid(float(t[0]), float(t[-1]), rate_hz)
     seg = assign_segments(t, bounds, tq)
     stance_seg = np.array([bool(case.stance[a]) for a, _ in bounds])
+    stance = stance_seg[seg]
 
     zeros = np.zeros_like(t)
     columns = {"l": case.leg_length_m, "a": case.leg_angle_rad, "fx": case.force_x_n, "fz": case.force_z_n}
@@ -155,14 +179,16 @@ def resample_case(case: ReducedTrajectory, rate_hz: float) -> ResampledCase:
         iv = col["v" + axis]
         return Channel(frozen_array(val[:, col["b" + axis]]), frozen_array(val[:, iv]), frozen_array(d1[:, iv]))
 
+    fx, fz = (gap_bridged_force(t, np.asarray(f, dtype=float), case.stance, tq, val[:, col[c]], stance)
+              for f, c in ((case.force_x_n, "fx"), (case.force_z_n, "fz")))
     return ResampledCase(
         time_s=frozen_array(tq),
-        stance=frozen_array(stance_seg[seg], dtype=bool),
+        stance=frozen_array(stance, dtype=bool),
         segment=frozen_array(seg, dtype=int),
         leg_length=channel("l"),
         leg_angle=channel("a"),
-        force_x_n=frozen_array(val[:, col["fx"]]),
-        force_z_n=frozen_array(val[:, col["fz"]]),
+        force_x_n=frozen_array(fx),
+        force_z_n=frozen_array(fz),
         body_x=body("x"),
         body_z=body("z"),
     )

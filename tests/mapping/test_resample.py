@@ -69,6 +69,21 @@ def test_force_step_at_touchdown_is_not_smeared():
     np.testing.assert_array_equal(rs.force_z_n[rs.stance], 800.0)
 
 
+def test_stance_force_bridges_to_zero_after_liftoff_without_overshoot():
+    # A stance force falling to zero at liftoff (the spring-mass plan's shape): the grid sample
+    # after the last stance sample lies on the straight line to the first flight sample's zero; a
+    # cubic continued past the last stance sample would go negative (hand arithmetic: halfway
+    # between 15 N and 0 N is 7.5 N).
+    t = np.arange(8) * 0.002
+    stance = np.array([1, 1, 1, 1, 0, 0, 0, 0], bool)
+    fz = np.array([600.0, 300.0, 120.0, 15.0, 0.0, 0.0, 0.0, 0.0])
+    rs = resample_case(case_from(t, np.full(8, 0.7), stance, fz=fz), 1000.0)
+    gap = (rs.time_s > t[3] + 1e-12) & (rs.time_s < t[4] - 1e-12)
+    assert gap.sum() == 1 and rs.stance[gap].all()
+    np.testing.assert_allclose(rs.force_z_n[gap], 7.5, rtol=1e-12)
+    assert np.all(rs.force_z_n >= 0.0)
+
+
 def test_derivatives_are_analytic_for_a_line():
     # A straight line (slope 0.2 m/s) is reproduced exactly by PCHIP, derivatives included.
     t = np.linspace(0, 1, 11)
