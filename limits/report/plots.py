@@ -134,11 +134,12 @@ def merge_spans(spans, gap_s: float) -> list[tuple[float, float, str]]:
     return [(a, b, ", ".join(lims)) for a, b, lims in out]
 
 
-def _shade(panels: dict, items, dt: float) -> tuple[Shade, ...]:
+def _shade(panels: dict, items, dt: float, min_width_s: float = 0.0) -> tuple[Shade, ...]:
     """Shade flagged spans: items are ((joint, row), t0, t1, severity, limit); panels map (joint, row) -> axes.
 
     Spans of one panel and severity are merged and drawn as one hatched collection (fast to render);
-    a single-sample span is widened by half a sample on each side so it stays visible.
+    every span is drawn at least ``min_width_s`` wide [s] (and half a sample beyond each end) so a
+    one-sample spike stays visible on a long time axis.
     """
     groups: dict = {}
     for key, t0, t1, sev, lim in items:
@@ -147,7 +148,11 @@ def _shade(panels: dict, items, dt: float) -> tuple[Shade, ...]:
     for ((joint, row), sev), spans in sorted(groups.items(), key=lambda kv: kv[0][1] == SEVERITY_EXCEEDS):
         merged = merge_spans(spans, 1.5 * dt)
         ax = panels[(joint, row)]
-        ax.broken_barh([(a - dt / 2, b - a + dt) for a, b, _ in merged], (0, 1), transform=ax.get_xaxis_transform(),
+        bars = []
+        for a, b, _ in merged:
+            w = max(b - a + dt, min_width_s)
+            bars.append(((a + b) / 2 - w / 2, w))
+        ax.broken_barh(bars, (0, 1), transform=ax.get_xaxis_transform(),
                        facecolors=FILL.get(sev, FILL_EXCEEDS), edgecolors=LIMIT, hatch=HATCH.get(sev, "xx"),
                        linewidth=0.0, alpha=0.55, zorder=0.2 if sev == SEVERITY_EXCEEDS else 0.1)  # exceeds over near
         shades.extend(Shade(joint, row, a, b, sev, lim) for a, b, lim in merged)
@@ -202,16 +207,17 @@ def case_joints_figure(review, robot) -> Figure:
             ax = axes[r, j]
             _style_axes(ax)
             lo, hi = bands[key]
-            ax.axhline(lo, color=LIMIT, linewidth=1.1, linestyle="-")
-            ax.axhline(hi, color=LIMIT, linewidth=1.1, linestyle="-")
+            ax.axhline(lo, color=LIMIT, linewidth=1.8, linestyle="-")
+            ax.axhline(hi, color=LIMIT, linewidth=1.8, linestyle="-")
             if key == "torque":
-                ax.plot(t, np.clip(hi_v, -10 * tmax, 10 * tmax), color=LIMIT, linewidth=0.9, linestyle="--")
-                ax.plot(t, np.clip(lo_v, -10 * tmax, 10 * tmax), color=LIMIT, linewidth=0.9, linestyle="--")
+                # only where the speed makes the bound tighter than the static peak torque (drawn solid)
+                ax.plot(t, np.where(hi_v < tmax, hi_v, np.nan), color=LIMIT, linewidth=1.0, linestyle="--")
+                ax.plot(t, np.where(lo_v > -tmax, lo_v, np.nan), color=LIMIT, linewidth=1.0, linestyle="--")
             ax.plot(t, series[key], color=PLAN, linewidth=1.3)
             y = series[key][np.isfinite(series[key])]
             if key == "torque":  # the envelope lines are part of what the reader compares against
                 env = np.concatenate([hi_v, lo_v])
-                env = env[np.isfinite(env) & (np.abs(env) <= 1.5 * tmax)]
+                env = env[np.isfinite(env) & (np.abs(env) <= tmax)]
                 y = np.concatenate([y, env])
             ylo, yhi, off = scale_limits(lo, hi, y)
             ax.set_ylim(ylo, yhi)
@@ -241,13 +247,13 @@ def case_joints_figure(review, robot) -> Figure:
         items.extend(((names[c], r), seg.t_start_s, seg.t_end_s, seg.severity, seg.limit) for c in cols for r in rows)
         severities.add(seg.severity)
     panels = {(names[c], k): axes[r, c] for c in range(nj) for r, (k, _) in enumerate(ROWS)}
-    shaded = _shade(panels, items, dt)
+    shaded = _shade(panels, items, dt, 0.006 * float(t[-1] - t[0]) if t.size else 0.0)
     from matplotlib.lines import Line2D
 
     extra = [
         Line2D([], [], color=PLAN, linewidth=1.3, label="planned"),
-        Line2D([], [], color=LIMIT, linewidth=1.1, label="limit: stops, max speed, peak torque"),
-        Line2D([], [], color=LIMIT, linewidth=0.9, linestyle="--", label="torque bound at planned speed (voltage, current)"),
+        Line2D([], [], color=LIMIT, linewidth=1.8, label="limit: stops, max speed, peak torque"),
+        Line2D([], [], color=LIMIT, linewidth=0.9, linestyle="--", label="tighter torque bound at planned speed (voltage)"),
     ]
     _legend_for_shading(fig, severities, extra)
     fig.suptitle(f"Case {review.case}: joint targets against the modelled limits", fontsize=10, color=INK)
@@ -307,7 +313,7 @@ def case_force_figure(review, robot, friction: float | None = None) -> Figure:
         if is_ground_limit(s) or s == "mapping":
             items.extend((("", row), seg.t_start_s, seg.t_end_s, seg.severity, seg.limit) for row in ("force_z", "force_x"))
             severities.add(seg.severity)
-    shaded = _shade({("", "force_z"): ax_z, ("", "force_x"): ax_x}, items, dt)
+    shaded = _shade({("", "force_z"): ax_z, ("", "force_x"): ax_x}, items, dt, 0.006 * float(t[-1] - t[0]) if t.size else 0.0)
     handles, _ = ax_x.get_legend_handles_labels()
     _legend_for_shading(fig, severities, handles)
     fig.suptitle(f"Case {review.case}: ground force on the foot", fontsize=10, color=INK)
@@ -347,12 +353,27 @@ def torque_speed_figure(reviews, robot, joint_name: str) -> Figure:
         ax.plot(traj.qd[::step, j], traj.tau[::step, j], linestyle="none", marker=MARKERS[k % len(MARKERS)],
                 markersize=3.2, markerfacecolor="none", markeredgewidth=0.8,
                 color=(PLAN, ALT, INK, "#4f7d4f")[k % 4], label=f"case {rv.case}")
+    # keep the envelope readable when a few samples spike far outside it; say how many are off scale
+    smax, tq_max = float(np.max(np.abs(sp))), max(float(np.max(np.abs(tq))), tmax)
+    xlim, ylim = 1.6 * smax, 2.0 * tq_max
+    ax.set_xlim(-xlim, xlim)
+    ax.set_ylim(-ylim, ylim)
+    notes = []
+    for rv in reviews:
+        if joint_name in rv.trajectory.joint_names:
+            j = list(rv.trajectory.joint_names).index(joint_name)
+            qd, tau = rv.trajectory.qd[:, j], rv.trajectory.tau[:, j]
+            n_off = int(np.count_nonzero((np.abs(qd) > xlim) | (np.abs(tau) > ylim)))
+            if n_off:
+                notes.append(f"case {rv.case}: {n_off} of {rv.trajectory.n_samples} samples of {joint_name} lie beyond the "
+                             f"plotted range (|speed| > {xlim:.3g} rad/s or |torque| > {ylim:.4g} N m), peak |torque| "
+                             f"{float(np.nanmax(np.abs(tau))):.4g} N m.")
     ax.set_xlabel("joint speed [rad/s]")
     ax.set_ylabel("joint torque [N m]")
     ax.set_title(f"{joint_name}: torque-speed plane", color=INK)
     fig.legend(loc="center right", bbox_to_anchor=(1.0, 0.5), fontsize=7.5, frameon=False)
     alt = f"Torque against speed of joint {joint_name} for every case, inside the motor's voltage and current envelope."
-    return Figure(f"joint-{joint_name}-torque-speed", _png(fig), alt)
+    return Figure(f"joint-{joint_name}-torque-speed", _png(fig), alt, (), tuple(notes))
 
 
 def _thermal_of(review):
@@ -377,7 +398,7 @@ def thermal_figure(reviews, robot, duration_s: float | None) -> Figure:
         ax = axes[j]
         _style_axes(ax)
         th = robot.joint(name).actuator.thermal
-        ax.axhline(th.max_winding_temp_c, color=LIMIT, linewidth=1.2, label="winding limit" if j == 0 else None)
+        ax.axhline(th.max_winding_temp_c, color=LIMIT, linewidth=2.6, label="winding limit" if j == 0 else None)
         ax.axhline(th.ambient_temp_c, color="#6b7680", linewidth=0.8, linestyle=":", label="ambient" if j == 0 else None)
         for k, rv in enumerate(reviews):
             temp, tt = _thermal_of(rv)

@@ -154,7 +154,8 @@ def cases(reviews, robot, settings) -> str:
             f'<article class="case" id="case-{slug(r.case)}"><h3>Case {escape(r.case)} '
             f'(ground height {num(r.ground_height_m)} m): {escape(verdict_words(r))}</h3>{findings}'
             + figure(fj, "Joint angle [rad], speed [rad/s] and torque [N m] against time [s]. Solid dark-red lines: hard stops, "
-                     "maximum joint speed and peak torque; dashed: torque the voltage envelope allows at the planned speed. "
+                     "maximum joint speed and peak torque; dashed: the torque the voltage envelope allows at the planned speed, where that "
+                     "is tighter than the peak torque. Triangles at a panel edge: samples beyond the plotted scale. "
                      "Hatched spans: flagged segments (diagonal = exceeds, dotted = near).")
             + figure(ff, "Ground force on the foot [N] against time [s]: planned (solid), the closest achievable force found by the "
                      "force-feasibility QP (dashed) and the friction cone bound &plusmn;&mu;F<sub>z</sub>.")
