@@ -14,9 +14,14 @@ liftoff without upward velocity, or an apex where the foot is not above the grou
 The ODE is solved with RK45 (rtol 1e-8, atol 1e-9), dense output, and sampled afterwards in one
 vectorised pass per phase.
 
-Leg angle during ascending flight (it does not act on the body): a cubic Hermite swing from the
-liftoff angle and angular rate to the policy's angle and rate at time 0, reached at the apex
-(ballistic apex time ``t_liftoff + vz / g``), so the sampled angle is continuous with its rate.
+Leg angle during flight (the massless leg's swing does not act on the body; only the touchdown
+angle, the policy's angle at the instant of touchdown, does): when the flight ends in a touchdown,
+the sampled angle is one cubic Hermite swing over the whole flight, from the liftoff angle and
+angular rate to the policy's angle and rate at touchdown, so a real leg is asked for the gentlest
+cubic swing that lands exactly as the policy says (the swing then uses the whole flight rather than
+its ascending half). A flight that the record cuts before touchdown swings from liftoff to the
+policy's angle and rate at time 0, reached at the apex, and follows the policy after it. Either way
+the sampled angle is continuous with its rate.
 """
 
 from __future__ import annotations
@@ -234,6 +239,21 @@ def _hermite(t, t0, p0, m0, t1, p1, m1):
     return (2 * u3 - 3 * u2 + 1) * p0 + (u3 - 2 * u2 + u) * span * m0 + (-2 * u3 + 3 * u2) * p1 + (u3 - u2) * span * m1
 
 
+def _flight_swings(curves, segments) -> dict:
+    """Whole-flight swings: segment index -> (t_liftoff, a, rate, t_touchdown, a, rate) for every
+    ascending and descending flight segment of a flight that ends in a touchdown."""
+    out = {}
+    for i in range(len(segments) - 2):
+        up, down, nxt = segments[i], segments[i + 1], segments[i + 2]
+        if up.kind == "up" and up.liftoff is not None and down.kind == "down" and nxt.kind == "stance":
+            t_lo, a_lo, w_lo, _ = up.liftoff
+            t_td = down.t1
+            a_td = float(curves.angle(t_td - down.t_apex))
+            w_td = float(curves.angle_rate(t_td - down.t_apex))
+            out[i] = out[i + 1] = (t_lo, a_lo, w_lo, t_td, a_td, w_td)
+    return out
+
+
 def _sample(params, curves, segments, h, t_end, rate, name) -> ReducedTrajectory:
     """Sample the solved phases on ``t = i / rate`` up to ``t_end`` (vectorised per phase)."""
     n = int(math.floor(t_end * rate + 1e-9)) + 1
@@ -246,6 +266,7 @@ def _sample(params, curves, segments, h, t_end, rate, name) -> ReducedTrajectory
     instant = dyn.relax_rate(params) is None
     a0 = curves.angle(0.0)
     w0 = float(curves.angle_rate(0.0))
+    swings = _flight_swings(curves, segments)
     for i, seg in enumerate(segments):
         idx = np.flatnonzero(which == i)
         if idx.size == 0:
@@ -267,7 +288,9 @@ def _sample(params, curves, segments, h, t_end, rate, name) -> ReducedTrajectory
             l = lact if instant else Y[4]
             cols["fx"][idx] = 0.0
             cols["fz"][idx] = 0.0
-            if seg.kind == "down":
+            if i in swings:
+                cols["a"][idx] = _hermite(ts, *swings[i])
+            elif seg.kind == "down":
                 cols["a"][idx] = curves.angle_array(ts - seg.t_apex)
             else:
                 t_lo, a_lo, w_lo, t_ap = seg.liftoff

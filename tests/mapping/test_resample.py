@@ -4,7 +4,7 @@ import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
-from scipy.interpolate import PchipInterpolator
+from scipy.interpolate import CubicSpline, PchipInterpolator
 
 from legbridge.mapping.plan import ReducedTrajectory
 from legbridge.mapping.resample import ResampleError, resample_case, segment_bounds, time_grid
@@ -32,7 +32,8 @@ def test_no_new_extrema_within_each_segment(values):
 
 
 def test_matches_scipy_pchip_per_segment_and_never_crosses_touchdown():
-    # Reference: scipy's PchipInterpolator run on each phase segment by hand.
+    # Reference: scipy's PchipInterpolator (values) and CubicSpline (rates) run on each phase
+    # segment by hand.
     t = np.arange(12) * 0.01
     y = np.array([0.7, 0.7, 0.69, 0.68, 0.62, 0.60, 0.61, 0.64, 0.70, 0.71, 0.72, 0.72])
     stance = np.array([0, 0, 0, 0, 1, 1, 1, 1, 0, 0, 0, 0], bool)
@@ -42,7 +43,8 @@ def test_matches_scipy_pchip_per_segment_and_never_crosses_touchdown():
         sel = rs.segment == k
         ref = PchipInterpolator(t[a:b], y[a:b])
         np.testing.assert_allclose(rs.leg_length.value[sel], ref(rs.time_s[sel]), atol=1e-14)
-        np.testing.assert_allclose(rs.leg_length.rate[sel], ref(rs.time_s[sel], 1), atol=1e-10)
+        ref_rate = CubicSpline(t[a:b], y[a:b])
+        np.testing.assert_allclose(rs.leg_length.rate[sel], ref_rate(rs.time_s[sel], 1), atol=1e-10)
         assert np.all(rs.stance[sel] == stance[a])
 
 
@@ -67,6 +69,20 @@ def test_force_step_at_touchdown_is_not_smeared():
     rs = resample_case(case_from(t, np.full(8, 0.7), stance, fz=fz), 1000.0)
     np.testing.assert_array_equal(rs.force_z_n[~rs.stance], 0.0)
     np.testing.assert_array_equal(rs.force_z_n[rs.stance], 800.0)
+
+
+def test_acceleration_is_smooth_through_a_swing_reversal():
+    # A leg angle a(t) = 0.23 - 80 (t - 0.1)^2 (constant acceleration -160 rad/s^2, a maximum at
+    # t = 0.1 s) sampled at 500 Hz: the resampled acceleration must be the analytic -160 rad/s^2
+    # everywhere (a cubic spline reproduces a parabola exactly; de Boor, A Practical Guide to
+    # Splines, ch. IV), not PCHIP's alternating estimate near the extremum.
+    t = np.arange(0.0, 0.2001, 0.002)
+    a = 0.23 - 80.0 * (t - 0.1) ** 2
+    n = len(t)
+    case = ReducedTrajectory("c", t, np.full(n, 0.7), a, np.zeros(n), np.zeros(n), np.zeros(n, bool))
+    rs = resample_case(case, 1000.0)
+    np.testing.assert_allclose(rs.leg_angle.accel, -160.0, rtol=1e-8)
+    np.testing.assert_allclose(rs.leg_angle.rate, -160.0 * (rs.time_s - 0.1), atol=1e-9)
 
 
 def test_stance_force_bridges_to_zero_after_liftoff_without_overshoot():
