@@ -1,0 +1,177 @@
+"""``legbridge sweep PLAN... --robot ROBOT... [--heights LO:HI:N]``: disturbance sweeps.
+
+Re-simulates each plan's open-loop policy on every ground-height offset (the actuated spring-mass
+model, legbridge.mapping.slip), translates and checks every case that completes exactly as
+``legbridge check`` does, and prints per offset the reduced-model outcome, the apex error against
+the nominal case and the hardware verdict, then the window of offsets that complete within the
+modelled limits and what closes it at each end. Several plans and robots: the cross product.
+Progress on stderr. Exit 0 when every offset completes within the modelled limits, 1 otherwise,
+2 on bad input (nothing run, nothing written).
+"""
+
+from __future__ import annotations
+
+import math
+import os
+import sys
+import time
+from pathlib import Path
+
+HELP = "re-simulate a plan's policy on many ground heights and check every case"
+
+
+def register(subparsers) -> None:
+    p = subparsers.add_parser(
+        "sweep", help=HELP,
+        description="Re-simulate the open-loop policy of PLAN (actuated spring-mass model) on a range of ground-height "
+                    "offsets, translate and check every case that completes, and report the window of offsets that "
+                    "complete within the modelled limits.")
+    p.add_argument("plan", nargs="+", metavar="PLAN", help="plan file(s) carrying a policy and model (JSON, NPZ, MAT)")
+    p.add_argument("--robot", action="append", required=True, metavar="ROBOT",
+                   help="robot description file or bundled robot name; repeat for several (cross product with PLAN)")
+    p.add_argument("--heights", default=None, metavar="LO:HI:N",
+                   help="ground-height offsets [m]: N values from LO to HI; write --heights=LO:HI:N when LO is negative "
+                        "(default 11 from -0.1 l0 to +0.1 l0)")
+    p.add_argument("--rate", type=float, default=1000.0, metavar="HZ", help="controller / export rate [Hz] (default 1000)")
+    p.add_argument("--duration", type=float, default=None, metavar="S",
+                   help="test duration for the thermal model [s], plan repeated (default: one plan period)")
+    p.add_argument("--margin", type=float, default=0.1, metavar="FRACTION",
+                   help="'near' band below each limit as a fraction of it (default 0.1)")
+    p.add_argument("--friction", type=float, default=None, metavar="MU", help="ground friction coefficient (default: robot file)")
+    p.add_argument("--jobs", type=int, default=None, metavar="N", help="local worker processes (default: all cores)")
+    p.add_argument("--scheduler", default=None, metavar="ADDRESS", help="run on this Dask distributed scheduler instead")
+    p.add_argument("--qps", choices=("all", "verdict"), default="all",
+                   help="'all': both QPs on every completed offset, as `check` (default); 'verdict': skip them where "
+                        "the sample checks already exceed a limit (the verdict cannot change)")
+    p.add_argument("--csv", default=None, metavar="OUT", help="write the results table as CSV")
+    p.add_argument("--json", default=None, metavar="OUT", help="write the results as JSON")
+    p.add_argument("--plot", default=None, metavar="OUT.png",
+                   help="write the utilisation-against-offset figure (one file per plan and robot: OUT-2.png ...)")
+    p.add_argument("--force", action="store_true", help="replace output files that exist")
+    p.set_defaults(func=run)
+
+
+def plot_paths(path: str, n: int) -> list[Path]:
+    """OUT for one pair; OUT, OUT-2, OUT-3 ... (same suffix) for several."""
+    p = Path(path)
+    return [p] + [p.with_name(f"{p.stem}-{k}{p.suffix}") for k in range(2, n + 1)]
+
+
+def _progress(stream):
+    t0 = time.perf_counter()
+    tty = getattr(stream, "isatty", lambda: False)()
+    last = [-1]
+
+    def say(done: int, total: int) -> None:
+        pct = int(100 * done / total)
+        if tty:
+            end = "\n" if done == total else ""
+            print(f"\r  sweep: {done}/{total} offsets ({time.perf_counter() - t0:.1f} s)", end=end, file=stream, flush=True)
+        elif pct // 25 != last[0] or done == total:  # a line at 0/25/50/75/100 %
+            last[0] = pct // 25
+            print(f"  sweep: {done}/{total} offsets ({time.perf_counter() - t0:.1f} s)", file=stream, flush=True)
+
+    return say
+
+
+def _m(v: float) -> str:
+    return "n/a" if v is None or (isinstance(v, float) and math.isnan(v)) else f"{v:.4f}"
+
+
+def summary_lines(sweeps, jobs_label: str) -> list[str]:
+    """The terminal summary of every (plan, robot) pair, then the caution text. Never says 'safe'."""
+    from legbridge.limits.cautions import caution_lines
+    from legbridge.limits.review_json import VERDICT_TEXT
+    from legbridge.limits.sweep import NOT_CHECKED
+
+    out = []
+    for s in sweeps:
+        offs = s.offsets_m
+        out.append(f"legbridge sweep: plan {s.plan_path} (SHA-256 {s.plan_sha256[:12]}...) on robot '{s.robot_name}': "
+                   f"{len(offs)} ground offset(s) from {offs[0]:+.4f} to {offs[-1]:+.4f} m (l0 {s.nominal_leg_length_m:.3f} m), "
+                   f"{s.duration_s:g} s each; checked at {s.settings.rate_hz:g} Hz, margin {s.settings.margin:.0%}, "
+                   f"QPs: {s.qps}; {jobs_label}")
+        out.append(f"  {'offset [m]':>10}  {'reduced model':<44} {'apex error rms dz [m] / dvx [m/s]':<34} hardware")
+        for r, e in zip(s.offsets, s.apex_errors):
+            model = "completed" if r.completed else f"fell at {r.end_time_s:.3f} s ({r.fall_reason})"
+            apex = f"{_m(e.rms_dz_m)} / {_m(e.rms_dvx_m_s)} ({e.n_paired} apex)"
+            if r.verdict == NOT_CHECKED:
+                hw = "not checked (the reduced model fell)"
+            else:
+                hw = VERDICT_TEXT.get(r.verdict, r.verdict)
+                if r.worst_limit:
+                    u = r.worst_utilisation
+                    hw += f"; worst {r.worst_limit}{' (' + r.worst_joint + ')' if r.worst_joint else ''} " \
+                          f"{'not finite' if not math.isfinite(u) else f'{u:.0%}'}"
+                if r.findings:
+                    hw += f"; {len(r.findings)} finding(s) not evaluated"
+                if s.qps != "all" and not r.qps_run:
+                    hw += " (QPs skipped: verdict already set)"
+            out.append(f"  {r.offset_m:>+10.4f}  {model:<44} {apex:<34} {hw}")
+        w = s.window
+        if w.empty:
+            out.append(f"  window: none: the offset nearest 0 does not complete within the modelled limits: {w.below.text}")
+        else:
+            out.append(f"  window: {w.lo_m:+.4f} to {w.hi_m:+.4f} m ({w.n_within} offset(s)) complete "
+                       f"{VERDICT_TEXT['within']}")
+            out.append(f"    closed below by {w.below.text}")
+            out.append(f"    closed above by {w.above.text}")
+        n_fell = sum(not r.completed for r in s.offsets)
+        n_bad = sum(r.completed and not r.within for r in s.offsets)
+        if s.all_within:
+            out.append(f"  every offset completes {VERDICT_TEXT['within']}")
+        else:
+            out.append(f"  {n_fell} of {len(offs)} offset(s) fell; {n_bad} completed but exceed a modelled limit "
+                       f"or could not be evaluated")
+        out.append("")
+    out.extend(caution_lines())
+    return out
+
+
+def run(args) -> int:
+    from legbridge.limits.cli import tool_version
+    from legbridge.limits.results import CheckSettings
+    from legbridge.limits.sweep import exit_status, parse_heights
+    from legbridge.limits.sweep_runner import run_sweep
+    from legbridge.limits.sweep_table import check_writable, write_atomic, write_csv, write_json
+
+    settings = CheckSettings(rate_hz=args.rate, duration_s=args.duration, margin=args.margin, friction=args.friction)
+    offsets = parse_heights(args.heights) if args.heights is not None else None
+    if args.jobs is not None and args.jobs < 1:
+        from legbridge.limits.sweep import SweepInputError
+
+        raise SweepInputError(key="--jobs", expected="a whole number >= 1", found=args.jobs)
+    n_pairs = len(args.plan) * len(args.robot)
+    outputs = [p for p in (args.csv, args.json) if p] + ([str(p) for p in plot_paths(args.plot, n_pairs)] if args.plot else [])
+    if len(set(map(os.path.abspath, outputs))) != len(outputs):
+        from legbridge.limits.sweep import SweepInputError
+
+        raise SweepInputError(key="--csv/--json/--plot", expected="distinct output files", found=outputs)
+    for p in outputs:
+        check_writable(p, force=args.force)
+    jobs = args.jobs or os.cpu_count() or 1
+    label = f"Dask scheduler {args.scheduler}" if args.scheduler else f"{jobs} local job(s)"
+    t0 = time.perf_counter()
+    sweeps = run_sweep(args.plan, args.robot, offsets, settings=settings, jobs=jobs, scheduler=args.scheduler,
+                       progress=_progress(sys.stderr), qps=args.qps)
+    elapsed = time.perf_counter() - t0
+    n = sum(len(s.offsets) for s in sweeps)
+    for line in summary_lines(sweeps, label):
+        print(line)
+    print(f"  sweep: {n} offset(s) in {elapsed:.1f} s ({n / elapsed:.1f} offsets/s, {label})", file=sys.stderr)
+    if args.csv:
+        write_csv(sweeps, args.csv, force=args.force)
+        print(f"  results table written to {args.csv}", file=sys.stderr)
+    if args.json:
+        write_json(sweeps, args.json, force=args.force, tool_version=tool_version())
+        print(f"  results written to {args.json}", file=sys.stderr)
+    if args.plot:
+        from legbridge.limits.report.sweep_plot import plot_sweep, png_bytes
+
+        for s, p in zip(sweeps, plot_paths(args.plot, len(sweeps))):
+            write_atomic(png_bytes(plot_sweep(s)), p, force=args.force)
+            print(f"  figure written to {p}", file=sys.stderr)
+    return exit_status(sweeps)
+
+
+__all__ = ["plot_paths", "register", "run", "summary_lines"]
