@@ -170,11 +170,12 @@ def _run_dask(tasks, scheduler, progress: Progress | None):
                              found=str(scheduler), hint=f"({exc})") from exc
     try:
         run = uuid.uuid4().hex[:12]
-        futs = client.map(run_offset, list(tasks), key=[f"legbridge-sweep-{run}-{t.index}" for t in tasks], pure=False)
-        for k, _ in enumerate(as_completed(futs), start=1):
-            if progress:
-                progress(k, len(futs))
-        return client.gather(futs)
+        with client.as_current():
+            futs = client.map(run_offset, list(tasks), key=[f"legbridge-sweep-{run}-{t.index}" for t in tasks], pure=False)
+            for k, _ in enumerate(as_completed(futs), start=1):
+                if progress:
+                    progress(k, len(futs))
+            return client.gather(futs)
     finally:
         if own:
             client.close()
