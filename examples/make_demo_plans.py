@@ -1,10 +1,10 @@
 """Regenerate the invented demo plans: examples/demo-hop-plan.json and examples/demo-hop-plan.csv.
 
 INVENTED scenario (no real robot): a 25 kg lab biped hopping forward at about 1.5 m/s on a 0.70 m
-actuated spring-mass leg; ground-height cases -0.08, -0.04, 0 and +0.04 m share one open-loop policy
+actuated spring-mass leg; ground-height cases -0.06, -0.03, 0, +0.03 and +0.06 m share one open-loop policy
 (see legbridge.mapping.slip.demo). Deterministic: running it twice gives the same files.
 
-    /work/venv/bin/python examples/make_demo_plans.py [--force]
+    python examples/make_demo_plans.py [--force]
 """
 
 from __future__ import annotations

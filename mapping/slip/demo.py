@@ -1,10 +1,11 @@
 """The invented demo scenario: a 25 kg lab biped hopping forward at about 1.5 m/s.
 
 INVENTED NUMBERS, for demonstrations and tests only; they describe no real robot. Nominal leg length
-0.70 m, four ground-height cases (-0.08, -0.04, 0 and +0.04 m), one shared open-loop policy:
+0.70 m, five ground-height cases (-0.06, -0.03, 0, +0.03 and +0.06 m), one shared open-loop policy:
 swing-leg retraction at 3 rad/s from 0.457 rad at the apex, and an actuator stroke of 0.062 m from
-0.15 s after the apex that puts back the energy the damper takes. The +0.08 m step-up case is left
-out: with this policy it falls (the body is thrown backward after the third hop).
+0.15 s after the apex that puts back the energy the damper takes. Step-ups of about +0.062 m and
+more fall with this policy (the body is thrown backward), so the demo stops at +0.06 m; a
+disturbance sweep shows the whole window.
 """
 
 from __future__ import annotations
@@ -15,7 +16,7 @@ from legbridge.mapping.slip.policy import linear_retraction, policy_from_functio
 from legbridge.mapping.slip.results import ApexState
 from legbridge.mapping.slip.to_plan import simulate_cases
 
-DEMO_HEIGHTS_M = (-0.08, -0.04, 0.0, 0.04)
+DEMO_HEIGHTS_M = (-0.06, -0.03, 0.0, 0.03, 0.06)
 LEFT_OUT_HEIGHTS_M = (0.08,)
 DEMO_DURATION_S = 2.0
 DEMO_RATE_HZ = 500.0

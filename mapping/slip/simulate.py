@@ -19,9 +19,11 @@ angle, the policy's angle at the instant of touchdown, does): when the flight en
 the sampled angle is one cubic Hermite swing over the whole flight, from the liftoff angle and
 angular rate to the policy's angle and rate at touchdown, so a real leg is asked for the gentlest
 cubic swing that lands exactly as the policy says (the swing then uses the whole flight rather than
-its ascending half). A flight that the record cuts before touchdown swings from liftoff to the
-policy's angle and rate at time 0, reached at the apex, and follows the policy after it. Either way
-the sampled angle is continuous with its rate.
+its ascending half). For a flight that the record cuts before touchdown, the touchdown time is
+predicted from the ballistic flight and the policy (root of z - l_act cos(a) = h, with the leg at
+the actuator length) and the swing aims there; if no touchdown is predicted, the swing reaches the
+policy's angle and rate of time 0 at the apex and follows the policy after it. Either way the
+sampled angle is continuous with its rate.
 """
 
 from __future__ import annotations
@@ -239,19 +241,48 @@ def _hermite(t, t0, p0, m0, t1, p1, m1):
     return (2 * u3 - 3 * u2 + 1) * p0 + (u3 - 2 * u2 + u) * span * m0 + (-2 * u3 + 3 * u2) * p1 + (u3 - u2) * span * m1
 
 
-def _flight_swings(curves, segments) -> dict:
+def _flight_swings(params, curves, segments, h) -> dict:
     """Whole-flight swings: segment index -> (t_liftoff, a, rate, t_touchdown, a, rate) for every
-    ascending and descending flight segment of a flight that ends in a touchdown."""
+    ascending and descending flight segment of a flight that ends, or would end, in a touchdown."""
     out = {}
-    for i in range(len(segments) - 2):
-        up, down, nxt = segments[i], segments[i + 1], segments[i + 2]
-        if up.kind == "up" and up.liftoff is not None and down.kind == "down" and nxt.kind == "stance":
-            t_lo, a_lo, w_lo, _ = up.liftoff
-            t_td = down.t1
-            a_td = float(curves.angle(t_td - down.t_apex))
-            w_td = float(curves.angle_rate(t_td - down.t_apex))
-            out[i] = out[i + 1] = (t_lo, a_lo, w_lo, t_td, a_td, w_td)
+    for i, up in enumerate(segments):
+        if up.kind != "up" or up.liftoff is None:
+            continue
+        t_lo, a_lo, w_lo, t_ap = up.liftoff
+        down = segments[i + 1] if i + 1 < len(segments) and segments[i + 1].kind == "down" else None
+        if down is not None and i + 2 < len(segments) and segments[i + 2].kind == "stance":
+            t_td, t_apex = down.t1, down.t_apex
+        else:  # the record ends in this flight: predict the touchdown
+            y_lo = up.sol(t_lo)
+            t_apex = down.t_apex if down is not None else t_ap
+            tau = _predicted_touchdown(params, curves, h, float(y_lo[1]), float(y_lo[3]), t_apex - t_lo)
+            if tau is None:
+                continue
+            t_td = t_apex + tau
+        a_td = float(curves.angle(t_td - t_apex))
+        w_td = float(curves.angle_rate(t_td - t_apex))
+        out[i] = (t_lo, a_lo, w_lo, t_td, a_td, w_td)
+        if down is not None:
+            out[i + 1] = out[i]
     return out
+
+
+def _predicted_touchdown(params, curves, h, z_lo, vz_lo, rise_s):
+    """Time after the apex [s] at which a ballistic flight from liftoff height z_lo [m] and upward
+    speed vz_lo [m/s] meets the ground with the leg at the policy's angle and actuator length, or
+    None when it does not within the apex-to-apex time limit."""
+    from scipy.optimize import brentq
+
+    g = params.gravity_m_s2
+    z_apex = z_lo + vz_lo * rise_s - 0.5 * g * rise_s**2
+
+    def clearance(tau):
+        return z_apex - 0.5 * g * tau**2 - curves.actuator_length(tau) * math.cos(curves.angle(tau)) - h
+
+    horizon = params.max_time_between_apexes_s
+    if clearance(0.0) <= 0.0 or clearance(horizon) > 0.0:
+        return None
+    return float(brentq(clearance, 0.0, horizon, xtol=1e-9))
 
 
 def _sample(params, curves, segments, h, t_end, rate, name) -> ReducedTrajectory:
@@ -266,7 +297,7 @@ def _sample(params, curves, segments, h, t_end, rate, name) -> ReducedTrajectory
     instant = dyn.relax_rate(params) is None
     a0 = curves.angle(0.0)
     w0 = float(curves.angle_rate(0.0))
-    swings = _flight_swings(curves, segments)
+    swings = _flight_swings(params, curves, segments, h)
     for i, seg in enumerate(segments):
         idx = np.flatnonzero(which == i)
         if idx.size == 0:

@@ -29,7 +29,7 @@ def test_demo_cases_complete_with_invented_targets(plan):
     # The brief's invented targets: every case completes 2 s; peak stance force roughly 2.5-3 body
     # weights (checked loosely: 2.3-3.5); stance 0.15-0.27 s; forward speed about 1.5 m/s.
     params = params_from_plan(plan)
-    assert plan.case_names == ("ground-0.08m", "ground-0.04m", "nominal", "ground+0.04m")
+    assert plan.case_names == ("ground-0.06m", "ground-0.03m", "nominal", "ground+0.03m", "ground+0.06m")
     for c in plan.cases:
         assert plan.metadata["outcomes"][c.name]["status"] == "completed"
         assert c.duration_s == pytest.approx(2.0)
@@ -64,7 +64,7 @@ def test_plan_round_trip_reproduces_cases(plan, tmp_path):
     back = read_plan(path)
     params, policy, apex = params_from_plan(back), policy_from_plan(back), initial_apex_from_plan(back)
     assert params == demo_params() and apex == demo_apex()
-    case = back.case("ground-0.04m")
+    case = back.case("ground-0.03m")
     res = simulate(params, policy, apex, case.ground_height_m, 2.0, 500.0, name=case.name)
     np.testing.assert_allclose(res.trajectory.force_z_n, case.force_z_n, atol=1e-9)
     np.testing.assert_allclose(res.trajectory.leg_length_m, case.leg_length_m, atol=1e-12)
@@ -74,7 +74,7 @@ def test_plan_round_trip_reproduces_cases(plan, tmp_path):
 
 
 def test_step_up_case_falls_and_is_reported():
-    # Kept out of the demo on purpose: with the demo policy the +0.08 m step-up case falls.
+    # Beyond the demo's range on purpose: with the demo policy a +0.08 m step-up falls.
     res = simulate(demo_params(), demo_policy(), demo_apex(), 0.08, 2.0, 500.0)
     assert res.outcome.status == "fell" and res.outcome.reason == "body moving backward"
     assert res.trajectory.time_s[-1] <= res.outcome.time_s < 2.0
