@@ -38,14 +38,12 @@ from __future__ import annotations
 
 import json
 import math
-import os
-import tempfile
 from dataclasses import asdict
 from pathlib import Path
 
 import numpy as np
 
-from legbridge.robots.errors import OutputExistsError
+from legbridge.robots.files import write_atomic
 
 from .cautions import CAUTIONS, VERDICT_EXCEEDS, VERDICT_NEAR, VERDICT_NOT_EVALUATED, VERDICT_WITHIN
 from .check import rank_cases
@@ -147,17 +145,5 @@ def review_to_json(reviews, plan, robot, settings: CheckSettings | None) -> dict
 def write_json(doc: dict, path, *, force: bool = False) -> Path:
     """Write ``doc`` to ``path`` atomically (temporary file in the same folder, then rename).
     An existing file is replaced only with ``force``; otherwise OutputExistsError."""
-    p = Path(path)
-    if p.exists() and not force:
-        raise OutputExistsError("output file exists", path=str(p), hint="pass --force to replace it")
     text = json.dumps(doc, indent=2, allow_nan=False) + "\n"
-    fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".tmp", dir=str(p.parent) if str(p.parent) else ".")
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8") as fh:
-            fh.write(text)
-        os.replace(tmp, p)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
-    return p
+    return write_atomic(path, text, force=force)

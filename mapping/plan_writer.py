@@ -20,9 +20,7 @@ from __future__ import annotations
 import csv
 import io
 import json
-import os
 import re
-import tempfile
 from pathlib import Path
 
 import numpy as np
@@ -33,7 +31,7 @@ from legbridge.mapping.readers.json_reader import FORMAT_TAG
 from legbridge.mapping.readers.raw import POLICY_COLUMNS, READER_METADATA_KEYS
 from legbridge.mapping.readers.scaling import SCALE_KEYS
 from legbridge.mapping.readers.validation import OPTIONAL_COLUMNS
-from legbridge.robots.errors import OutputExistsError
+from legbridge.robots.files import refuse_existing, write_atomic
 
 EXTENSIONS = (".csv", ".json", ".npz", ".mat")
 _KEY = re.compile(r"^[A-Za-z][A-Za-z0-9_]*$")
@@ -263,23 +261,7 @@ def write_plan(plan: Plan, path, *, force: bool = False) -> Path:
     """
     p = Path(path)
     fmt = _format_of(p)
-    if p.exists() and not force:
-        raise OutputExistsError("output file exists", path=str(p), expected="a new file name", found="an existing file",
-                                hint="Pass force=True (--force) to overwrite it")
+    refuse_existing(p, force)
     if not plan.cases:
         raise PlanFormatError("the plan has no cases", path=str(p), expected="at least one case", found="none")
-    folder = p.parent if str(p.parent) else Path(".")
-    fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".tmp", dir=folder)
-    try:
-        with os.fdopen(fd, "wb") as fh:
-            _WRITERS[fmt](plan, fh, str(p))
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.replace(tmp, p)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except FileNotFoundError:
-            pass
-        raise
-    return p
+    return write_atomic(p, lambda fh: _WRITERS[fmt](plan, fh, str(p)), force=force)

@@ -21,13 +21,12 @@ from __future__ import annotations
 
 import io
 import json
-import os
-import tempfile
 from pathlib import Path
 
 import numpy as np
 
-from legbridge.robots.errors import LegbridgeError, OutputExistsError
+from legbridge.robots.errors import LegbridgeError
+from legbridge.robots.files import refuse_existing, write_atomic
 from legbridge.robots.robot import Robot
 
 from .joint_trajectory import FLAG_NAMES, JointTrajectory
@@ -155,18 +154,6 @@ def _json_doc(trajs, meta: dict) -> dict:
     return {"metadata": meta, "cases": cases}
 
 
-def _write_atomic(path: Path, write) -> None:
-    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".tmp")
-    try:
-        with os.fdopen(fd, "wb") as fh:
-            write(fh)
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
-
-
 def write_targets(trajs, path, *, plan: Plan, robot: Robot, rate_hz: float, force: bool = False) -> Path:
     """Write the joint targets of ``trajs`` (JointTrajectory, one per case) to ``path``; returns the path.
 
@@ -181,8 +168,7 @@ def write_targets(trajs, path, *, plan: Plan, robot: Robot, rate_hz: float, forc
         raise TargetsExportError("unknown targets format", path=str(p), expected=f"an extension in {list(FORMATS)}", found=p.suffix)
     if not p.parent.is_dir():
         raise TargetsExportError("output folder does not exist", path=str(p.parent))
-    if p.exists() and not force:
-        raise OutputExistsError("output file exists", path=str(p), hint="pass --force (force=True) to overwrite it")
+    refuse_existing(p, force)
     for t in trajs:
         if not np.isclose(t.rate_hz, rate_hz, rtol=1e-12, atol=0.0):
             raise TargetsExportError(f"case '{t.case}' was translated at another rate", key="rate_hz",
@@ -193,13 +179,13 @@ def write_targets(trajs, path, *, plan: Plan, robot: Robot, rate_hz: float, forc
     meta = build_metadata(trajs, plan=plan, robot=robot, rate_hz=rate_hz)
     if ext == ".csv":
         text = _csv_text(trajs, meta).encode("utf-8")
-        _write_atomic(p, lambda fh: fh.write(text))
+        write_atomic(p, text, force=force)
     elif ext == ".npz":
         arrays = _npz_arrays(trajs, meta)
-        _write_atomic(p, lambda fh: np.savez_compressed(fh, **arrays))
+        write_atomic(p, lambda fh: np.savez_compressed(fh, **arrays), force=force)
     else:
         text = json.dumps(_json_doc(trajs, meta), allow_nan=False).encode("utf-8")
-        _write_atomic(p, lambda fh: fh.write(text))
+        write_atomic(p, text, force=force)
     return p
 
 

@@ -4,7 +4,6 @@ against the allowed rise (max winding temperature - ambient). value and allowed:
 
 from __future__ import annotations
 
-import numpy as np
 
 from .base import CheckContext, ratio, trace
 

@@ -9,12 +9,11 @@ LegbridgeError, which legbridge.limits.cli turns into one line on stderr and exi
 
 from __future__ import annotations
 
-import os
-import tempfile
 from pathlib import Path
 
 from legbridge.limits.cautions import caution_lines
-from legbridge.robots.errors import LegbridgeError, OutputExistsError
+from legbridge.robots.errors import OutputExistsError
+from legbridge.robots.files import write_atomic
 from legbridge.robots.library import resolve_robot
 from legbridge.robots.summary import robot_summary
 from legbridge.robots.toml_reader import load_robot
@@ -42,23 +41,6 @@ def run_show(args) -> int:
     return 0
 
 
-def write_atomically(path: Path, text: str, *, force: bool) -> None:
-    """Write text to path via a temporary file in the same folder and os.replace."""
-    if path.exists() and not force:
-        raise OutputExistsError("output exists", path=str(path), hint="use --force to overwrite it")
-    if not path.parent.is_dir():
-        raise LegbridgeError("output folder does not exist", path=str(path.parent))
-    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".tmp")
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8") as fh:
-            fh.write(text)
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
-
-
 def run_export(args) -> int:
     src = resolve_robot(args.file)
     robot = load_robot(src)
@@ -66,6 +48,6 @@ def run_export(args) -> int:
     inputs = {src.resolve()} | ({Path(robot.urdf.urdf_path).resolve()} if robot.urdf else set())
     if out.resolve() in inputs:
         raise OutputExistsError("refusing to overwrite an input file", path=str(out))
-    write_atomically(out, export_urdf(robot), force=args.force)
+    write_atomic(out, export_urdf(robot), force=args.force)
     print(f"wrote {out}")
     return 0

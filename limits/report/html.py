@@ -3,13 +3,12 @@
 from __future__ import annotations
 
 import os
-import tempfile
 from datetime import datetime
 from html import escape
 from importlib import resources
 from pathlib import Path
 
-from legbridge.robots.errors import OutputExistsError
+from legbridge.robots.files import refuse_existing, write_atomic
 
 from . import sections
 
@@ -56,32 +55,7 @@ def render_report(reviews, plan, robot, settings, *, created: str | None = None)
     )
 
 
-def write_atomic(path: Path, data: bytes | str, *, force: bool = False) -> Path:
-    """Write ``data`` to ``path`` via a temporary file in the same folder and os.replace.
-
-    Raises OutputExistsError when the file exists and ``force`` is False.
-    """
-    path = Path(path)
-    if path.exists() and not force:
-        raise OutputExistsError(path=str(path), expected="a path that does not exist yet", found="an existing file",
-                                hint="pass --force (force=True) to overwrite it")
-    raw = data.encode("utf-8") if isinstance(data, str) else data
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=str(path.parent))
-    try:
-        with os.fdopen(fd, "wb") as fh:
-            fh.write(raw)
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
-    return path
-
-
 def write_report(reviews, plan, robot, settings, path, *, force: bool = False, created: str | None = None) -> Path:
     """Render the report and write it atomically to ``path`` (refuses to overwrite without ``force``)."""
-    path = Path(path)
-    if path.exists() and not force:  # refuse before the (slower) rendering
-        raise OutputExistsError(path=str(path), expected="a path that does not exist yet", found="an existing file",
-                                hint="pass --force (force=True) to overwrite it")
+    path = refuse_existing(path, force)  # refuse before the (slower) rendering
     return write_atomic(path, render_report(reviews, plan, robot, settings, created=created), force=force)

@@ -86,7 +86,7 @@ def test_cli_export(tmp_path, capsys):
     assert first.startswith("<?xml") and 'joint name="knee"' in first
     # no overwrite without --force; nothing else written
     assert main(["robot", "export-urdf", "example-leg", "-o", str(out)]) == 2
-    assert "use --force" in capsys.readouterr().err
+    assert "pass --force" in capsys.readouterr().err
     assert out.read_text() == first
     assert main(["robot", "export-urdf", "example-leg", "-o", str(out), "--force"]) == 0
     assert "example-leg" in out.read_text()
