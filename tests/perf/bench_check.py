@@ -3,7 +3,8 @@
     /work/venv/bin/python tests/perf/bench_check.py
 
 Five-case plan at 1 kHz, 2 s per case: the invented demo scenario (legbridge.mapping.slip.demo) at
-five ground heights, translated with legbridge.mapping.translate.translate_plan for the example leg;
+its five ground heights, translated with legbridge.mapping.translate.translate_plan for the demo leg
+(robots/library/lab-biped-leg.toml);
 synthetic trajectories if those are not available. Times (1) the whole check (every limit, the
 thermal model and both batched QPs) and (2) in the same run the same QPs solved one sample at a
 time with cvxpy, on a subset of samples, extrapolated to all samples (said in the output). The
@@ -18,7 +19,7 @@ import time
 
 import numpy as np
 
-HEIGHTS_M = (-0.08, -0.04, 0.0, 0.02, 0.04)
+HEIGHTS_M = (-0.06, -0.03, 0.0, 0.03, 0.06)  # the demo's own cases (mapping/slip/demo.py)
 RATE_HZ = 1000.0
 SUBSET = 150
 
@@ -27,7 +28,7 @@ def load():
     from legbridge.robots import load_robot
     from legbridge.robots.library import library_path
 
-    robot = load_robot(library_path("example-leg.toml"))
+    robot = load_robot(library_path("lab-biped-leg.toml"))
     try:
         from legbridge.mapping.slip.demo import demo_plan
         from legbridge.mapping.translate import translate_plan
