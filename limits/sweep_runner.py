@@ -123,6 +123,38 @@ def run_offset(task: OffsetTask) -> OffsetResult:
     return replace(base, timing_s=(t1 - t0, t2 - t1, t3 - t2), **_checked_fields(review, settings.run_qps))
 
 
+_BLAS_SETTERS = ("scipy_openblas_set_num_threads64_", "scipy_openblas_set_num_threads", "openblas_set_num_threads64_",
+                 "openblas_set_num_threads", "MKL_Set_Num_Threads")
+
+
+def single_threaded_blas() -> int:
+    """Worker initializer: one BLAS thread per worker process (as Dask's nanny does through
+    OPENBLAS_NUM_THREADS=1). The work unit's small dense algebra gains nothing from BLAS threads,
+    which only compete with the other workers for the cores. Linux only (reads /proc/self/maps);
+    returns the number of BLAS libraries set, 0 where none could be found."""
+    import ctypes
+
+    try:
+        with open("/proc/self/maps", encoding="utf-8", errors="replace") as fh:
+            libs = sorted({line.split()[-1] for line in fh if ("openblas" in line.lower() or "mkl_rt" in line.lower())
+                           and line.split()[-1].startswith("/")})
+    except OSError:
+        return 0
+    n = 0
+    for path in libs:
+        try:
+            lib = ctypes.CDLL(path)
+        except OSError:
+            continue
+        for name in _BLAS_SETTERS:
+            fn = getattr(lib, name, None)
+            if fn is not None:
+                fn(ctypes.c_int(1))
+                n += 1
+                break
+    return n
+
+
 def _pool_context():
     methods = multiprocessing.get_all_start_methods()
     return multiprocessing.get_context("fork" if "fork" in methods else "spawn")
@@ -138,7 +170,8 @@ def _run_local(tasks, jobs: int, progress: Progress | None):
                 progress(k + 1, total)
         return out
     results = [None] * total
-    with ProcessPoolExecutor(max_workers=min(jobs, total), mp_context=_pool_context()) as pool:
+    with ProcessPoolExecutor(max_workers=min(jobs, total), mp_context=_pool_context(),
+                             initializer=single_threaded_blas) as pool:
         futs = {pool.submit(run_offset, t): k for k, t in enumerate(tasks)}
         pending, done_n = set(futs), 0
         while pending:
@@ -258,4 +291,5 @@ def run_sweep(plans, robots, offsets=None, *, settings: CheckSettings | None = N
     return tuple(out)
 
 
-__all__ = ["Progress", "SchedulerError", "run_offset", "run_sweep", "run_tasks", "simulated_result", "NOT_CHECKED"]
+__all__ = ["Progress", "SchedulerError", "run_offset", "run_sweep", "run_tasks", "simulated_result", "single_threaded_blas",
+           "NOT_CHECKED"]
