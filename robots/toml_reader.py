@@ -142,12 +142,15 @@ def robot_from_toml(doc: dict, path: str, sha256: str, *, extra_sections: tuple[
 
 
 def load_robot(path: str | Path) -> Robot:
-    """Load and validate a robot description file.
+    """Load and validate a robot description file, or a bundled robot by name ('lab-biped-leg').
 
     A native TOML (``[[segments]]``), or a TOML with a ``[urdf]`` section naming a URDF file and
     its sagittal chain (robots.urdf_reader). A bare ``.urdf`` is refused: the actuator data live in
     the TOML.
     """
+    from .library import resolve_robot
+
+    path = resolve_robot(path)
     data = read_bytes(path)
     if str(path).lower().endswith(".urdf"):
         raise RobotFileError("a URDF alone does not describe the actuators", path=str(path),
