@@ -19,8 +19,8 @@ def resolve_robot(name_or_path) -> Path:
     from ..errors import InputFileNotFound
 
     p = Path(name_or_path)
-    if p.is_file():
-        return p
+    if p.is_file() or p.parent != Path("."):
+        return p  # a path: a missing file is reported by whoever reads it
     names = library_names()
     if p.parent == Path(".") and (p.name in names or p.name + ".toml" in names):
         return library_path(p.name if p.name in names else p.name + ".toml")
