@@ -290,7 +290,7 @@ class SweepWindow:
 
 
 def _pct(u: float) -> str:
-    return "not finite" if not math.isfinite(u) else f"{u:.0%}"
+    return "not finite" if not math.isfinite(u) else f"{u:.1%}"
 
 
 def closing_end(r: OffsetResult) -> WindowEnd:

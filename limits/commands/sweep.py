@@ -102,7 +102,7 @@ def summary_lines(sweeps, jobs_label: str) -> list[str]:
                 if r.worst_limit:
                     u = r.worst_utilisation
                     hw += f"; worst {r.worst_limit}{' (' + r.worst_joint + ')' if r.worst_joint else ''} " \
-                          f"{'not finite' if not math.isfinite(u) else f'{u:.0%}'}"
+                          f"{'not finite' if not math.isfinite(u) else f'{u:.1%}'}"
                 if r.findings:
                     hw += f"; {len(r.findings)} finding(s) not evaluated"
                 if s.qps != "all" and not r.qps_run:

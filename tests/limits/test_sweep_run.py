@@ -125,6 +125,17 @@ def test_a_case_that_must_fall_is_reported_and_closes_the_window(short_plan, amp
     assert not sw.all_within
 
 
+def test_several_plans_and_robots_sweep_the_cross_product(short_plan, ample_robot):
+    """Issue 6: PLAN and --robot may be repeated; one sweep per (plan, robot), plans outer."""
+    other = simulate_cases(demo_params(), demo_policy(), demo_apex(), [0.0], duration_s=0.5, rate_hz=500.0, path="<other>")
+    out = run_sweep([short_plan, other], ["lab-biped-leg", str(ample_robot)], [0.0], settings=SETTINGS, jobs=1)
+    assert [(s.plan_path, s.robot_name) for s in out] == [("<short demo plan>", "lab-biped-leg"), ("<short demo plan>", "ample-leg"),
+                                                           ("<other>", "lab-biped-leg"), ("<other>", "ample-leg")]
+    assert [s.duration_s for s in out] == [DURATION_S, DURATION_S, 0.5, 0.5]
+    # same plan, same offset: the reduced model does not depend on the robot
+    assert out[0].offsets[0].apex_z_m == out[1].offsets[0].apex_z_m
+
+
 def _main(argv, capsys):
     code = cli.main(["sweep"] + [str(a) for a in argv])
     return code, capsys.readouterr()
@@ -136,6 +147,7 @@ def test_cli_exit_codes_outputs_and_caution(short_plan_file, ample_robot, tmp_pa
     code, cap = _main([short_plan_file, "--robot", ample_robot, "--heights=0:0:1", "--rate", "500", "--jobs", "1",
                        "--csv", csv_out, "--json", json_out, "--plot", png], capsys)
     assert code == 0, cap.err
+    assert "sweep: 1/1 offsets" in cap.err  # progress on stderr
     assert "within the modelled limits" in cap.out and "CAUTION:" in cap.out
     assert not re.search(r"\bsafe\b", cap.out + cap.err, re.I)
     doc = json.loads(json_out.read_text())
