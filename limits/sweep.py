@@ -289,8 +289,12 @@ class SweepWindow:
         return self.lo_m is None
 
 
-def _pct(u: float) -> str:
-    return "not finite" if not math.isfinite(u) else f"{u:.1%}"
+def pct_text(u: float) -> str:
+    """A utilisation in % for people: 0.1 % steps, 0.01 % steps within 0.5 % of the limit (so an
+    exceeding 100.004 % reads '100.00 %' rather than a misleading '100.0 %' next to 'exceeds'), 'not finite'."""
+    if not math.isfinite(u):
+        return "not finite"
+    return f"{u:.2%}" if abs(u - 1.0) < 0.005 else f"{u:.1%}"
 
 
 def closing_end(r: OffsetResult) -> WindowEnd:
@@ -301,7 +305,7 @@ def closing_end(r: OffsetResult) -> WindowEnd:
     if r.verdict == CASE_EXCEEDS:
         where = f" ({r.worst_joint})" if r.worst_joint else ""
         return WindowEnd(END_LIMIT, r.offset_m, r.worst_limit, r.worst_joint, r.worst_utilisation,
-                         f"{r.worst_limit}{where} at {_pct(r.worst_utilisation)} at {r.offset_m:+.4f} m")
+                         f"{r.worst_limit}{where} at {pct_text(r.worst_utilisation)} at {r.offset_m:+.4f} m")
     first = r.findings[0] if r.findings else "not checked"
     return WindowEnd(END_NOT_EVALUATED, r.offset_m, "", "", math.nan,
                      f"could not be evaluated at {r.offset_m:+.4f} m ({first})")
@@ -384,6 +388,6 @@ def exit_status(sweeps) -> int:
 __all__ = [
     "ApexError", "DEFAULT_COUNT", "DEFAULT_SPAN_FRACTION", "NOT_CHECKED", "OffsetResult", "OffsetTask", "QPS_ALL",
     "QPS_VERDICT", "QP_MODES", "SCHEMA_VERSION", "SimSetup", "SweepInputError", "SweepResult", "SweepWindow",
-    "WindowEnd", "apex_error", "assemble", "closing_end", "default_offsets", "exit_status", "offsets_between",
+    "WindowEnd", "apex_error", "pct_text", "assemble", "closing_end", "default_offsets", "exit_status", "offsets_between",
     "parse_heights", "setup_from_plan", "sweep_window",
 ]

@@ -18,7 +18,7 @@ import multiprocessing
 import os
 import time
 import uuid
-from concurrent.futures import FIRST_EXCEPTION, ProcessPoolExecutor, wait
+from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
 from dataclasses import replace
 from functools import lru_cache
 from pathlib import Path
@@ -175,7 +175,7 @@ def _run_local(tasks, jobs: int, progress: Progress | None):
         futs = {pool.submit(run_offset, t): k for k, t in enumerate(tasks)}
         pending, done_n = set(futs), 0
         while pending:
-            done, pending = wait(pending, return_when=FIRST_EXCEPTION)
+            done, pending = wait(pending, return_when=FIRST_COMPLETED)
             for f in done:
                 exc = f.exception()
                 if exc is not None:

@@ -82,7 +82,7 @@ def summary_lines(sweeps, jobs_label: str) -> list[str]:
     """The terminal summary of every (plan, robot) pair, then the caution text. Never says 'safe'."""
     from legbridge.limits.cautions import caution_lines
     from legbridge.limits.review_json import VERDICT_TEXT
-    from legbridge.limits.sweep import NOT_CHECKED
+    from legbridge.limits.sweep import NOT_CHECKED, pct_text
 
     out = []
     for s in sweeps:
@@ -94,7 +94,7 @@ def summary_lines(sweeps, jobs_label: str) -> list[str]:
         out.append(f"  {'offset [m]':>10}  {'reduced model':<44} {'apex error rms dz [m] / dvx [m/s]':<34} hardware")
         for r, e in zip(s.offsets, s.apex_errors):
             model = "completed" if r.completed else f"fell at {r.end_time_s:.3f} s ({r.fall_reason})"
-            apex = f"{_m(e.rms_dz_m)} / {_m(e.rms_dvx_m_s)} ({e.n_paired} apex)"
+            apex = f"{_m(e.rms_dz_m)} / {_m(e.rms_dvx_m_s)} ({e.n_paired} apex{'es' if e.n_paired != 1 else ''})"
             if r.verdict == NOT_CHECKED:
                 hw = "not checked (the reduced model fell)"
             else:
@@ -102,7 +102,7 @@ def summary_lines(sweeps, jobs_label: str) -> list[str]:
                 if r.worst_limit:
                     u = r.worst_utilisation
                     hw += f"; worst {r.worst_limit}{' (' + r.worst_joint + ')' if r.worst_joint else ''} " \
-                          f"{'not finite' if not math.isfinite(u) else f'{u:.1%}'}"
+                          f"{pct_text(u)}"
                 if r.findings:
                     hw += f"; {len(r.findings)} finding(s) not evaluated"
                 if s.qps != "all" and not r.qps_run:
