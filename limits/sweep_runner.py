@@ -197,7 +197,7 @@ def _run_dask(tasks, scheduler, progress: Progress | None):
                              hint="install the 'cluster' extra: pip install 'legbridge[cluster]'") from exc
     own = not isinstance(scheduler, Client)
     try:
-        client = Client(scheduler, timeout=20, set_as_default=False) if own else scheduler
+        client = Client(scheduler, timeout=10, set_as_default=False) if own else scheduler
     except (OSError, TimeoutError, ValueError) as exc:
         raise SchedulerError("cannot reach the Dask scheduler", key="--scheduler", expected="a running scheduler address",
                              found=str(scheduler), hint=f"({exc})") from exc
