@@ -4,7 +4,10 @@
 
 P diagonal (stored as its diagonal ``p_diag``), A sparse (scipy CSR). Infinite entries of lower/upper
 mean 'no bound'. ``solve`` builds the cvxpy problem once for the whole batch, solves it with Clarabel
-or OSQP and computes the KKT residuals from the matrices (solver-independent):
+or OSQP and computes the KKT residuals from the matrices (solver-independent). When P is positive
+definite and the unconstrained minimum -c / p meets every constraint, that point is the solution
+(KKT with zero multipliers; e.g. the nearest feasible motion of a plan that is already feasible is
+the plan itself) and no solver is called; QPSolution.solver then says so. Residuals:
 
     primal_inf        max over rows of the bound violation of A x
     stationarity_inf  || P x + c + A^T y ||_inf   with y = y_upper - y_lower (cvxpy duals, >= 0)
@@ -62,6 +65,15 @@ def solve(problem: QPProblem, solver: str = "CLARABEL") -> tuple[np.ndarray, QPS
         return np.zeros(0), QPSolution(problem.name, "optimal", True, 0.0, solver, {}, {
             "primal_inf": 0.0, "stationarity_inf": 0.0, "complementarity_inf": 0.0, "objective": 0.0})
     A = sp.csr_matrix(problem.A)
+    if np.all(problem.p_diag > 0.0):
+        t0 = time.perf_counter()
+        x0 = -problem.c / problem.p_diag
+        ax = A @ x0
+        if np.all(ax <= problem.upper) and np.all(ax >= problem.lower):
+            res = {"primal_inf": 0.0, "stationarity_inf": float(np.max(np.abs(problem.p_diag * x0 + problem.c))),
+                   "complementarity_inf": 0.0, "objective": problem.objective(x0), "solver_time_s": 0.0}
+            return x0, QPSolution(problem.name, "optimal", True, time.perf_counter() - t0,
+                                  "none (unconstrained minimum is feasible)", {}, res)
     up_rows = np.flatnonzero(np.isfinite(problem.upper))
     lo_rows = np.flatnonzero(np.isfinite(problem.lower))
     x = cp.Variable(n)
