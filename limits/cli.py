@@ -52,9 +52,28 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+# Options whose value is a range LO:HI:N that may start with '-' (argparse would take it for an option).
+RANGE_OPTIONS = ("--heights", "--sweep")
+
+
+def attach_range_values(argv: list[str]) -> list[str]:
+    """``--heights -0.05:0.05:5`` -> ``--heights=-0.05:0.05:5`` (the form argparse accepts)."""
+    out: list[str] = []
+    i = 0
+    while i < len(argv):
+        a = argv[i]
+        if a in RANGE_OPTIONS and i + 1 < len(argv) and argv[i + 1].startswith("-") and ":" in argv[i + 1]:
+            out.append(f"{a}={argv[i + 1]}")
+            i += 2
+            continue
+        out.append(a)
+        i += 1
+    return out
+
+
 def main(argv: list[str] | None = None) -> int:
     parser = build_parser()
-    args = parser.parse_args(argv)
+    args = parser.parse_args(attach_range_values(list(sys.argv[1:] if argv is None else argv)))
     if not getattr(args, "func", None):
         parser.print_help(sys.stderr)
         return EXIT_BAD_INPUT

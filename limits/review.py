@@ -49,6 +49,7 @@ class ReviewOutcome:
     settings: CheckSettings
     elapsed_s: float = 0.0
     timings_s: dict = field(default_factory=dict)
+    sweep: object = None  # limits.sweep.SweepResult when the review ran a ground-height sweep
 
 
 def output_names() -> dict[str, str]:
@@ -121,21 +122,44 @@ def _publish(staging: Path, out: Path) -> dict[str, Path]:
     return moved
 
 
+SWEEP_AUTO = "auto"
+SWEEP_CSV = "sweep.csv"
+SWEEP_JSON = "sweep.json"
+
+
+def _sweep(plan, robot, settings, sweep, jobs, say):
+    """The ground-height sweep the review asked for, or None. ``sweep``: None (none), SWEEP_AUTO (the
+    default grid when the plan carries an open-loop policy) or a sequence of offsets [m] (required:
+    a plan without a policy is then refused)."""
+    if sweep is None or (sweep == SWEEP_AUTO and plan.policy is None):
+        return None
+    from legbridge.limits.sweep_runner import run_sweep
+
+    offsets = None if sweep == SWEEP_AUTO else tuple(sweep)
+    say("sweeping the ground height (re-simulating the plan's open-loop policy)")
+    (result,) = run_sweep([plan], [robot.source], offsets, settings=settings, jobs=jobs)
+    return result
+
+
 def run_review(plan, robot, settings: CheckSettings, out_dir, *, force: bool = False,
                progress: Progress | None = None, created: str | None = None,
-               extra_names: tuple[str, ...] = ()) -> ReviewOutcome:
+               extra_names: tuple[str, ...] = (), sweep=SWEEP_AUTO, jobs: int | None = None) -> ReviewOutcome:
     """Review ``plan`` (Plan or plan file path) on ``robot`` (Robot or robot file path) into ``out_dir``.
 
     Writes review.json (review_to_json), the joint targets (write_targets) and report.html; returns a
     ReviewOutcome. Raises a LegbridgeError subclass on bad input (nothing written) and
     OutputExistsError when ``out_dir`` holds previous outputs and ``force`` is False.
     extra_names: further file names in ``out_dir`` that count as previous outputs (the demo plan).
+    sweep: SWEEP_AUTO (default: when the plan carries an open-loop policy, re-simulate it on the
+    default ground-height grid and add the sweep to the report, sweep.csv and sweep.json), None (no
+    sweep) or the offsets [m] to sweep; jobs: worker processes for the sweep (default: all cores).
+    The sweep informs; the exit code speaks of the plan's own cases.
     """
     say = progress or (lambda _msg: None)
     t0 = time.perf_counter()
     timings: dict[str, float] = {}
     names = output_names()
-    out = check_output_dir(out_dir, tuple(names.values()) + tuple(extra_names), force=force)
+    out = check_output_dir(out_dir, tuple(names.values()) + (SWEEP_CSV, SWEEP_JSON) + tuple(extra_names), force=force)
 
     def lap(key, t):
         timings[key] = time.perf_counter() - t
@@ -156,12 +180,14 @@ def run_review(plan, robot, settings: CheckSettings, out_dir, *, force: bool = F
         reviews.extend(_check((traj,), robot, settings))
     reviews = tuple(reviews)
     t = lap("check_s", t)
+    swept = _sweep(plan, robot, settings, sweep, jobs, say)
+    t = lap("sweep_s", t)
 
     from legbridge.limits.report import exit_code, render_report
 
     say("writing the review, the targets and the report")
     json_text = _review_json(reviews, plan, robot, settings)
-    html_text = render_report(reviews, plan, robot, settings, created=created)
+    html_text = render_report(reviews, plan, robot, settings, created=created, sweep=swept)
     t = lap("render_s", t)
 
     created_dir = not out.exists()
@@ -171,6 +197,14 @@ def run_review(plan, robot, settings: CheckSettings, out_dir, *, force: bool = F
         (staging / names["review"]).write_text(json_text, encoding="utf-8")
         (staging / names["report"]).write_text(html_text, encoding="utf-8")
         _write_targets(trajs, staging / names["targets"], plan, robot, settings)
+        if swept is not None:
+            from legbridge.limits.sweep_table import to_csv_text, to_json_doc
+
+            (staging / SWEEP_CSV).write_text(to_csv_text([swept]), encoding="utf-8")
+            from legbridge.limits.cli import tool_version
+
+            doc = to_json_doc([swept], tool_version())
+            (staging / SWEEP_JSON).write_text(json.dumps(doc, indent=2, allow_nan=False) + "\n", encoding="utf-8")
         moved = _publish(staging, out)
     except BaseException:
         shutil.rmtree(staging, ignore_errors=True)
@@ -180,12 +214,14 @@ def run_review(plan, robot, settings: CheckSettings, out_dir, *, force: bool = F
     shutil.rmtree(staging, ignore_errors=True)
     lap("write_s", t)
     paths = {kind: moved.get(name, out / name) for kind, name in names.items()}
+    if swept is not None:
+        paths.update(sweep_csv=out / SWEEP_CSV, sweep_json=out / SWEEP_JSON)
     return ReviewOutcome(reviews, paths, exit_code(reviews), plan, robot, settings,
-                         time.perf_counter() - t0, timings)
+                         time.perf_counter() - t0, timings, swept)
 
 
 def run_demo_review(settings: CheckSettings, out_dir, *, force: bool = False, progress: Progress | None = None,
-                    created: str | None = None) -> ReviewOutcome:
+                    created: str | None = None, sweep=SWEEP_AUTO, jobs: int | None = None) -> ReviewOutcome:
     """Review the in-memory demo plan (invented data) on the bundled demo leg.
 
     The demo plan is first written to ``out_dir/demo-plan.json`` so the review records a real file
@@ -204,7 +240,7 @@ def run_demo_review(settings: CheckSettings, out_dir, *, force: bool = False, pr
     plan_path = write_plan(plan, out / DEMO_PLAN, force=force)
     try:
         outcome = run_review(plan_path, library_path(DEMO_ROBOT), settings, out, force=True,
-                             progress=progress, created=created)
+                             progress=progress, created=created, sweep=sweep, jobs=jobs)
     except BaseException:
         plan_path.unlink(missing_ok=True)
         if created_dir and not any(out.iterdir()):
@@ -212,4 +248,4 @@ def run_demo_review(settings: CheckSettings, out_dir, *, force: bool = False, pr
         raise
     paths = dict(outcome.paths, plan=Path(plan_path))
     return ReviewOutcome(outcome.reviews, paths, outcome.exit_code, outcome.plan, outcome.robot, settings,
-                         outcome.elapsed_s, outcome.timings_s)
+                         outcome.elapsed_s, outcome.timings_s, outcome.sweep)

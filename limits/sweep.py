@@ -312,7 +312,7 @@ def closing_end(r: OffsetResult) -> WindowEnd:
 
 
 def _open(side: str) -> WindowEnd:
-    return WindowEnd(END_OPEN, None, "", "", math.nan, f"not closed {side} within the swept range")
+    return WindowEnd(END_OPEN, None, "", "", math.nan, "not closed within the swept range")
 
 
 def sweep_window(results) -> SweepWindow:

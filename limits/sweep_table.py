@@ -17,13 +17,12 @@ import csv
 import io
 import json
 import math
-import os
-import tempfile
 from pathlib import Path
 
 from legbridge.limits.cautions import CAUTIONS
 from legbridge.limits.sweep import SCHEMA_VERSION
 from legbridge.robots.errors import OutputExistsError
+from legbridge.robots.files import write_atomic
 
 BASE_COLUMNS = (
     "plan", "plan_sha256", "robot", "robot_sha256", "offset_m", "case", "outcome", "fall_reason", "end_time_s",
@@ -145,32 +144,15 @@ def check_writable(path, *, force: bool = False) -> Path:
     return p
 
 
-def write_atomic(data: bytes | str, path, *, force: bool = False) -> Path:
-    """Write ``data`` to ``path`` via a temporary file in the same folder and a rename."""
-    p = check_writable(path, force=force)
-    raw = data.encode("utf-8") if isinstance(data, str) else data
-    fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".tmp", dir=str(p.parent) if str(p.parent) else ".")
-    try:
-        with os.fdopen(fd, "wb") as fh:
-            fh.write(raw)
-        os.replace(tmp, p)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
-    return p
-
-
 def write_csv(sweeps, path, *, force: bool = False) -> Path:
     """Write the CSV table atomically."""
-    return write_atomic(to_csv_text(sweeps), path, force=force)
+    return write_atomic(path, to_csv_text(sweeps), force=force)
 
 
 def write_json(sweeps, path, *, force: bool = False, tool_version: str = "") -> Path:
     """Write the JSON document atomically."""
     text = json.dumps(to_json_doc(sweeps, tool_version), indent=2, allow_nan=False) + "\n"
-    return write_atomic(text, path, force=force)
+    return write_atomic(path, text, force=force)
 
 
-__all__ = ["BASE_COLUMNS", "check_writable", "limit_names", "rows", "to_csv_text", "to_json_doc", "write_atomic",
-           "write_csv", "write_json"]
+__all__ = ["BASE_COLUMNS", "check_writable", "limit_names", "rows", "to_csv_text", "to_json_doc", "write_csv", "write_json"]

@@ -34,6 +34,11 @@ def register(sub) -> None:
                    help="'near' band below each limit as a fraction (default 0.1)")
     p.add_argument("--friction", metavar="MU", type=float, default=None,
                    help="ground friction coefficient (default: the robot file's)")
+    p.add_argument("--sweep", metavar="LO:HI:N", default=None,
+                   help="ground-height offsets [m] for the sweep of the plan's open-loop policy (default: 11 from "
+                        "-0.1 l0 to +0.1 l0 whenever the plan carries a policy)")
+    p.add_argument("--no-sweep", action="store_true", help="do not sweep the ground height")
+    p.add_argument("--jobs", metavar="N", type=int, default=None, help="worker processes for the sweep (default: all cores)")
     p.add_argument("--force", action="store_true", help="overwrite previous outputs in DIR")
     p.set_defaults(func=run)
 
@@ -79,6 +84,13 @@ def summary_lines(outcome) -> list[str]:
               f"Targets: {outcome.paths['targets']}"]
     if "plan" in outcome.paths:
         lines.append(f"Plan:    {outcome.paths['plan']} (demo plan, invented data)")
+    if outcome.sweep is not None:
+        w = outcome.sweep.window
+        lines += ["", f"Ground-height sweep ({len(outcome.sweep.offsets)} offsets, reduced model re-simulated): "
+                  + ("no offset around zero completes within the modelled limits" if w.empty else
+                     f"window {w.lo_m:+.4f} m to {w.hi_m:+.4f} m within the modelled limits"),
+                  f"  below: {w.below.text}", f"  above: {w.above.text}",
+                  f"Sweep:   {outcome.paths['sweep_csv']}, {outcome.paths['sweep_json']}"]
     lines.append("")
     lines += caution_lines()
     return lines
@@ -100,12 +112,27 @@ def run(args: argparse.Namespace) -> int:
                                found=f"plan={args.plan!r}, robot={args.robot!r}")
     settings = settings_from_args(args)
     progress = _progress_printer(sys.stderr)
+    from legbridge.limits.review import SWEEP_AUTO
+
+    if args.no_sweep and args.sweep is not None:
+        raise ReviewUsageError(key="--sweep", expected="either --sweep LO:HI:N or --no-sweep", found="both")
+    if args.jobs is not None and args.jobs < 1:
+        raise ReviewUsageError(key="--jobs", expected="a whole number >= 1", found=args.jobs)
+    if args.no_sweep:
+        sweep = None
+    elif args.sweep is not None:
+        from legbridge.limits.sweep import parse_heights
+
+        sweep = parse_heights(args.sweep)
+    else:
+        sweep = SWEEP_AUTO
     if args.demo:
-        outcome = run_demo_review(settings, args.out, force=args.force, progress=progress)
+        outcome = run_demo_review(settings, args.out, force=args.force, progress=progress, sweep=sweep, jobs=args.jobs)
     else:
         from legbridge.robots.library import resolve_robot
 
         robot_path = resolve_robot(args.robot)  # a file, or a bundled robot by name
-        outcome = run_review(args.plan, robot_path, settings, args.out, force=args.force, progress=progress)
+        outcome = run_review(args.plan, robot_path, settings, args.out, force=args.force, progress=progress,
+                             sweep=sweep, jobs=args.jobs)
     print("\n".join(summary_lines(outcome)))
     return outcome.exit_code

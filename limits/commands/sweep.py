@@ -114,8 +114,8 @@ def summary_lines(sweeps, jobs_label: str) -> list[str]:
         else:
             out.append(f"  window: {w.lo_m:+.4f} to {w.hi_m:+.4f} m ({w.n_within} offset(s)) complete "
                        f"{VERDICT_TEXT['within']}")
-            out.append(f"    closed below by {w.below.text}")
-            out.append(f"    closed above by {w.above.text}")
+            out.append(f"    below: {w.below.text}")
+            out.append(f"    above: {w.above.text}")
         n_fell = sum(not r.completed for r in s.offsets)
         n_bad = sum(r.completed and not r.within for r in s.offsets)
         if s.all_within:
@@ -133,7 +133,8 @@ def run(args) -> int:
     from legbridge.limits.results import CheckSettings
     from legbridge.limits.sweep import exit_status, parse_heights
     from legbridge.limits.sweep_runner import run_sweep
-    from legbridge.limits.sweep_table import check_writable, write_atomic, write_csv, write_json
+    from legbridge.limits.sweep_table import check_writable, write_csv, write_json
+    from legbridge.robots.files import write_atomic
 
     settings = CheckSettings(rate_hz=args.rate, duration_s=args.duration, margin=args.margin, friction=args.friction)
     offsets = parse_heights(args.heights) if args.heights is not None else None
@@ -169,7 +170,7 @@ def run(args) -> int:
         from legbridge.limits.report.sweep_plot import plot_sweep, png_bytes
 
         for s, p in zip(sweeps, plot_paths(args.plot, len(sweeps))):
-            write_atomic(png_bytes(plot_sweep(s)), p, force=args.force)
+            write_atomic(p, png_bytes(plot_sweep(s)), force=args.force)
             print(f"  figure written to {p}", file=sys.stderr)
     return exit_status(sweeps)
 

@@ -26,10 +26,11 @@ def _version() -> str:
         return "0+unknown"
 
 
-def render_report(reviews, plan, robot, settings, *, created: str | None = None) -> str:
+def render_report(reviews, plan, robot, settings, *, created: str | None = None, sweep=None) -> str:
     """The review report of ``reviews`` (CaseReview, one per case) as one HTML string.
 
     created: the date and time to print (ISO 8601); default now, local time with its UTC offset.
+    sweep: a limits.sweep.SweepResult of the same plan and robot, shown before the sign-off, or None.
     """
     created = created or datetime.now().astimezone().isoformat(timespec="seconds")
     version = _version()
@@ -40,6 +41,7 @@ def render_report(reviews, plan, robot, settings, *, created: str | None = None)
         sections.torque_speed(reviews, robot),
         sections.thermal(reviews, robot, settings),
         sections.segments(reviews),
+        sections.sweep(sweep) if sweep is not None else "",
         sections.signoff(robot),
     ])
     name = os.path.basename(plan.path) or "plan"
@@ -55,7 +57,8 @@ def render_report(reviews, plan, robot, settings, *, created: str | None = None)
     )
 
 
-def write_report(reviews, plan, robot, settings, path, *, force: bool = False, created: str | None = None) -> Path:
+def write_report(reviews, plan, robot, settings, path, *, force: bool = False, created: str | None = None,
+                 sweep=None) -> Path:
     """Render the report and write it atomically to ``path`` (refuses to overwrite without ``force``)."""
     path = refuse_existing(path, force)  # refuse before the (slower) rendering
-    return write_atomic(path, render_report(reviews, plan, robot, settings, created=created), force=force)
+    return write_atomic(path, render_report(reviews, plan, robot, settings, created=created, sweep=sweep), force=force)

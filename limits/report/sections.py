@@ -18,6 +18,8 @@ from . import plots
 from .summary import SEVERITY_WORDS, VERDICT_CLASS, exceeded_limits, joint_label, limit_label, ranked, verdict_words, worst_of
 
 SECTION_IDS = ("caution-and-identity", "verdicts", "cases", "torque-speed", "thermal", "segments", "sign-off")
+# Present only when the review ran a ground-height sweep; it stands between "segments" and "sign-off".
+SWEEP_SECTION_ID = "sweep"
 
 SIGNOFF_ITEMS = (
     "The emergency stop has been tested on this robot today and cuts power to every joint of the leg.",
@@ -212,6 +214,38 @@ def segments(reviews) -> str:
     empty = "" if segs else "<p>No segment of any case is near or beyond a modelled limit.</p>"
     return (f'<section id="segments"><h2>6. Flagged segments</h2>{empty}'
             f'<table class="segments">{head}{body}</table></section>')
+
+
+def sweep(result) -> str:
+    """Optional section: the ground-height sweep of the plan's open-loop policy (limits.sweep)."""
+    from .sweep_plot import plot_sweep, png_bytes
+
+    w = result.window
+    fig = plots.Figure("sweep", png_bytes(plot_sweep(result)),
+                       "Highest utilisation of each modelled limit against the ground offset")
+    if w.empty:
+        window = "No offset around zero completes within the modelled limits."
+    else:
+        window = (f"Offsets from {w.lo_m:+.4f} m to {w.hi_m:+.4f} m ({w.n_within} of {len(result.offsets)}) complete "
+                  f"in the reduced model and stay within the modelled limits.")
+    ends = f"<li>Below: {escape(w.below.text)}</li><li>Above: {escape(w.above.text)}</li>"
+    head = _row(["Ground offset [m]", "Reduced model", "Verdict", "Worst limit", "Joint", ("Utilisation [%]", "num"),
+                 ("RMS apex height error [m]", "num"), ("RMS apex speed error [m/s]", "num")], header=True)
+    body = []
+    for r, e in zip(result.offsets, result.apex_errors):
+        outcome = "completed" if r.completed else f"fell at {r.end_time_s:.3f} s ({escape(r.fall_reason or '')})"
+        verdict = verdict_words(r) if r.checked else "not checked (fell)"
+        css = VERDICT_CLASS.get(verdict, "")
+        body.append(_row([(f"{r.offset_m:+.4f}", "num"), outcome, (escape(verdict), f"verdict {css}"),
+                          escape(limit_label(r.worst_limit)) if r.worst_limit else "&ndash;",
+                          escape(r.worst_joint or "&ndash;"), (pct(r.worst_utilisation) if r.checked else "&ndash;", "num"),
+                          (num(e.rms_dz_m, ".3g"), "num"), (num(e.rms_dvx_m_s, ".3g"), "num")]))
+    caption = ("Highest utilisation [% of the modelled limit] of each limit over joints and samples against the "
+               "ground offset [m]; the shaded band is the window; 'x': the reduced model fell. Each offset re-simulates "
+               "the plan's open-loop policy on flat ground at that height and is checked like the plan's own cases.")
+    return (f'<section id="{SWEEP_SECTION_ID}"><h2>Ground-height sweep of the open-loop policy</h2>'
+            f"<p>{escape(window)}</p><ul>{ends}</ul>{figure(fig, caption)}"
+            f'<table class="sweep">{head}{"".join(body)}</table></section>')
 
 
 def signoff(robot) -> str:

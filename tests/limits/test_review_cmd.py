@@ -199,7 +199,10 @@ def test_demo_review(tmp_path, capsys):
     code = main(["review", "--demo", "-o", str(out), "--rate", "200"])
     assert code in (0, 1)
     names = sorted(p.name for p in out.iterdir())
-    assert names == sorted(OUTPUTS + ["demo-plan.json"])
+    # the demo plan carries its open-loop policy, so the review sweeps the ground height as well
+    assert names == sorted(OUTPUTS + ["demo-plan.json", "sweep.csv", "sweep.json"])
+    assert 'id="sweep"' in (out / "report.html").read_text()
+    assert json.loads((out / "sweep.json").read_text())["schema"].startswith("legbridge.sweep/")
     doc = json.loads((out / REVIEW_JSON).read_text())
     import hashlib
 

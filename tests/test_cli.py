@@ -1,0 +1,20 @@
+"""The command line: range options that start with '-', no command, unknown options (exit 2)."""
+
+import pytest
+
+from legbridge.limits.cli import attach_range_values, main
+
+
+def test_negative_range_values_are_attached_to_their_option():
+    argv = ["sweep", "p.json", "--robot", "r", "--heights", "-0.05:0.05:5", "--rate", "500"]
+    assert attach_range_values(argv) == ["sweep", "p.json", "--robot", "r", "--heights=-0.05:0.05:5", "--rate", "500"]
+    # a following option is left alone, and so is a positive range
+    assert attach_range_values(["review", "--sweep", "0:0.1:3", "--force"]) == ["review", "--sweep", "0:0.1:3", "--force"]
+
+
+def test_no_command_and_unknown_options_exit_2(capsys):
+    assert main([]) == 2
+    with pytest.raises(SystemExit) as exc:
+        main(["check", "--no-such-option"])
+    assert exc.value.code == 2
+    assert "legbridge: error" in capsys.readouterr().err
