@@ -218,6 +218,8 @@ def segments(reviews) -> str:
 
 def sweep(result) -> str:
     """Optional section: the ground-height sweep of the plan's open-loop policy (limits.sweep)."""
+    from legbridge.limits.sweep import pct_text
+
     from .sweep_plot import plot_sweep, png_bytes
 
     w = result.window
@@ -229,7 +231,7 @@ def sweep(result) -> str:
         window = (f"Offsets from {w.lo_m:+.4f} m to {w.hi_m:+.4f} m ({w.n_within} of {len(result.offsets)}) complete "
                   f"in the reduced model and stay within the modelled limits.")
     ends = f"<li>Below: {escape(w.below.text)}</li><li>Above: {escape(w.above.text)}</li>"
-    head = _row(["Ground offset [m]", "Reduced model", "Verdict", "Worst limit", "Joint", ("Utilisation [%]", "num"),
+    head = _row(["Ground offset [m]", "Reduced model", "Verdict", "Worst limit", "Joint", ("Utilisation", "num"),
                  ("RMS apex height error [m]", "num"), ("RMS apex speed error [m/s]", "num")], header=True)
     body = []
     for r, e in zip(result.offsets, result.apex_errors):
@@ -238,12 +240,13 @@ def sweep(result) -> str:
         css = VERDICT_CLASS.get(verdict, "")
         body.append(_row([(f"{r.offset_m:+.4f}", "num"), outcome, (escape(verdict), f"verdict {css}"),
                           escape(limit_label(r.worst_limit)) if r.worst_limit else "&ndash;",
-                          escape(r.worst_joint or "&ndash;"), (pct(r.worst_utilisation) if r.checked else "&ndash;", "num"),
+                          escape(r.worst_joint) if r.worst_joint else "&ndash;",
+                          (escape(pct_text(r.worst_utilisation)) if r.checked else "&ndash;", "num"),
                           (num(e.rms_dz_m, ".3g"), "num"), (num(e.rms_dvx_m_s, ".3g"), "num")]))
     caption = ("Highest utilisation [% of the modelled limit] of each limit over joints and samples against the "
                "ground offset [m]; the shaded band is the window; 'x': the reduced model fell. Each offset re-simulates "
                "the plan's open-loop policy on flat ground at that height and is checked like the plan's own cases.")
-    return (f'<section id="{SWEEP_SECTION_ID}"><h2>Ground-height sweep of the open-loop policy</h2>'
+    return (f'<section id="{SWEEP_SECTION_ID}"><h2>6a. Ground-height sweep of the open-loop policy</h2>'
             f"<p>{escape(window)}</p><ul>{ends}</ul>{figure(fig, caption)}"
             f'<table class="sweep">{head}{"".join(body)}</table></section>')
 
