@@ -42,6 +42,12 @@ class Scaling:
         """Unit of force, one body weight m g [N]."""
         return self.mass_kg * self.gravity_m_s2
 
+    def describe(self) -> str:
+        """One line for people: the values used and where they came from."""
+        return (f"nondimensional plan scaled with l0 = {self.length_m:g} m, mass = {self.mass_kg:g} kg, "
+                f"g = {self.gravity_m_s2:g} m/s^2 (time unit {self.time_s:.4g} s, force unit {self.force_n:.4g} N; "
+                f"from the {self.source})")
+
 
 @dataclass(frozen=True, eq=False)
 class ReducedTrajectory:

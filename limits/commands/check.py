@@ -98,7 +98,10 @@ def run(args) -> int:
         raise OutputExistsError("output file exists", path=args.json, hint="pass --force to replace it")
     plan, robot, trajs = load_inputs(args.plan, args.robot, settings.rate_hz)
     reviews = check_plan(trajs, robot, settings)
-    for line in summary_lines(reviews, robot, args.plan, settings):
+    lines = summary_lines(reviews, robot, args.plan, settings)
+    if plan.scaling is not None:
+        lines.insert(1, f"  {plan.scaling.describe()}")
+    for line in lines:
         print(line)
     if args.json:
         write_json(review_to_json(reviews, plan, robot, settings), args.json, force=args.force)

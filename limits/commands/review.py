@@ -61,7 +61,10 @@ def summary_lines(outcome) -> list[str]:
     from legbridge.limits.report.summary import joint_label, limit_label, pct_text, ranked, verdict_words, worst_of, worst_segments
 
     plan, robot = outcome.plan, outcome.robot
-    lines = [f"legbridge review: plan {plan.path} (SHA-256 {plan.sha256[:12]}...) on robot {robot.name}", ""]
+    lines = [f"legbridge review: plan {plan.path} (SHA-256 {plan.sha256[:12]}...) on robot {robot.name}"]
+    if plan.scaling is not None:
+        lines.append(f"  {plan.scaling.describe()}")
+    lines.append("")
     width = max((len(r.case) for r in outcome.reviews), default=4)
     for r in outcome.reviews:
         w = worst_of(r)

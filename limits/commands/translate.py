@@ -37,9 +37,7 @@ def summary_lines(plan, trajs, out: Path, rate_hz: float) -> list[str]:
     flagged = sum(int((t.flags != 0).sum()) for t in trajs)
     lines = [f"plan {plan.path}: {len(trajs)} case(s), {n} samples at {rate_hz:g} Hz, {flagged} flagged sample(s)"]
     if plan.scaling is not None:
-        s = plan.scaling
-        lines.append(f"  nondimensional plan scaled with l0 = {s.length_m:g} m, mass = {s.mass_kg:g} kg, "
-                     f"g = {s.gravity_m_s2:g} m/s^2 (from the {s.source})")
+        lines.append(f"  {plan.scaling.describe()}")
     for t in trajs:
         reasons = [f"{int(((t.flags & bit) != 0).sum())} {name}" for bit, name in FLAG_NAMES.items() if ((t.flags & bit) != 0).any()]
         lines.append(f"  {t.case}: {t.n_samples} samples, {int((t.flags != 0).sum())} flagged"

@@ -65,7 +65,7 @@ def test_non_finite_numbers_become_null(example_robot, make_traj):
 
 
 def _run(monkeypatch, capsys, trajs, robot, argv):
-    monkeypatch.setattr(check_cmd, "load_inputs", lambda p, r, rate: (SimpleNamespace(path=p, sha256="00"), robot, tuple(trajs)))
+    monkeypatch.setattr(check_cmd, "load_inputs", lambda p, r, rate: (SimpleNamespace(path=p, sha256="00", scaling=None), robot, tuple(trajs)))
     code = cli.main(["check", "plan.csv", "--robot", "robot.toml"] + argv)
     return code, capsys.readouterr()
 
