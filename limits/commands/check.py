@@ -7,6 +7,8 @@ limits, 1 when a limit is exceeded or something could not be evaluated, 2 on bad
 
 from __future__ import annotations
 
+from legbridge.limits.commands.options import add_check_options, settings_from_args
+
 import sys
 from pathlib import Path
 
@@ -22,12 +24,7 @@ def register(subparsers) -> None:
                                           "friction), with the force-feasibility and nearest-motion QPs.")
     p.add_argument("plan", metavar="PLAN", help="plan file (CSV, JSON, NPZ or MAT-file)")
     p.add_argument("--robot", required=True, metavar="ROBOT", help="robot description (TOML, or URDF + actuator table)")
-    p.add_argument("--rate", type=float, default=1000.0, metavar="HZ", help="controller / export rate [Hz] (default 1000)")
-    p.add_argument("--duration", type=float, default=None, metavar="S",
-                   help="test duration for the thermal model [s], plan repeated (default: one plan period)")
-    p.add_argument("--margin", type=float, default=0.1, metavar="FRACTION",
-                   help="'near' band below each limit as a fraction of it (default 0.1)")
-    p.add_argument("--friction", type=float, default=None, metavar="MU", help="ground friction coefficient (default: robot file)")
+    add_check_options(p)
     p.add_argument("--json", default=None, metavar="OUT", help="write the review as JSON to OUT")
     p.add_argument("--force", action="store_true", help="replace OUT if it exists")
     p.set_defaults(func=run)
@@ -90,10 +87,9 @@ def summary_lines(reviews, robot, plan_label: str, settings) -> list[str]:
 
 def run(args) -> int:
     from legbridge.limits.check import check_plan
-    from legbridge.limits.results import CheckSettings
     from legbridge.limits.review_json import review_to_json, write_json
 
-    settings = CheckSettings(rate_hz=args.rate, duration_s=args.duration, margin=args.margin, friction=args.friction)
+    settings = settings_from_args(args)
     if args.json and Path(args.json).exists() and not args.force:
         raise OutputExistsError("output file exists", path=args.json, hint="pass --force to replace it")
     plan, robot, trajs = load_inputs(args.plan, args.robot, settings.rate_hz)

@@ -7,6 +7,8 @@ line per stage) when stderr is a terminal.
 
 from __future__ import annotations
 
+from legbridge.limits.commands.options import add_check_options, settings_from_args
+
 import argparse
 import sys
 import time
@@ -27,13 +29,7 @@ def register(sub) -> None:
     p.add_argument("--demo", action="store_true",
                    help="review the bundled demo leg with the built-in demo plan (invented data)")
     p.add_argument("-o", "--out", metavar="DIR", required=True, help="output folder for the review")
-    p.add_argument("--rate", metavar="HZ", type=float, default=1000.0, help="export and check rate [Hz] (default 1000)")
-    p.add_argument("--duration", metavar="S", type=float, default=None,
-                   help="test duration for the thermal model [s] (plan repeated; default one period)")
-    p.add_argument("--margin", metavar="FRACTION", type=float, default=0.1,
-                   help="'near' band below each limit as a fraction (default 0.1)")
-    p.add_argument("--friction", metavar="MU", type=float, default=None,
-                   help="ground friction coefficient (default: the robot file's)")
+    add_check_options(p)
     p.add_argument("--sweep", metavar="LO:HI:N", default=None,
                    help="ground-height offsets [m] for the sweep of the plan's open-loop policy (default: 11 from "
                         "-0.1 l0 to +0.1 l0 whenever the plan carries a policy)")
@@ -97,12 +93,6 @@ def summary_lines(outcome) -> list[str]:
     lines.append("")
     lines += caution_lines()
     return lines
-
-
-def settings_from_args(args):
-    from legbridge.limits.results import CheckSettings
-
-    return CheckSettings(rate_hz=args.rate, duration_s=args.duration, margin=args.margin, friction=args.friction)
 
 
 def run(args: argparse.Namespace) -> int:

@@ -11,6 +11,8 @@ Progress on stderr. Exit 0 when every offset completes within the modelled limit
 
 from __future__ import annotations
 
+from legbridge.limits.commands.options import add_check_options, settings_from_args
+
 import math
 import os
 import sys
@@ -32,12 +34,7 @@ def register(subparsers) -> None:
     p.add_argument("--heights", default=None, metavar="LO:HI:N",
                    help="ground-height offsets [m]: N values from LO to HI; write --heights=LO:HI:N when LO is negative "
                         "(default 11 from -0.1 l0 to +0.1 l0)")
-    p.add_argument("--rate", type=float, default=1000.0, metavar="HZ", help="controller / export rate [Hz] (default 1000)")
-    p.add_argument("--duration", type=float, default=None, metavar="S",
-                   help="test duration for the thermal model [s], plan repeated (default: one plan period)")
-    p.add_argument("--margin", type=float, default=0.1, metavar="FRACTION",
-                   help="'near' band below each limit as a fraction of it (default 0.1)")
-    p.add_argument("--friction", type=float, default=None, metavar="MU", help="ground friction coefficient (default: robot file)")
+    add_check_options(p)
     p.add_argument("--jobs", type=int, default=None, metavar="N", help="local worker processes (default: all cores)")
     p.add_argument("--scheduler", default=None, metavar="ADDRESS", help="run on this Dask distributed scheduler instead")
     p.add_argument("--qps", choices=("all", "verdict"), default="all",
@@ -130,13 +127,12 @@ def summary_lines(sweeps, jobs_label: str) -> list[str]:
 
 def run(args) -> int:
     from legbridge.limits.cli import tool_version
-    from legbridge.limits.results import CheckSettings
     from legbridge.limits.sweep import exit_status, parse_heights
     from legbridge.limits.sweep_runner import run_sweep
     from legbridge.limits.sweep_table import check_writable, write_csv, write_json
     from legbridge.robots.files import write_atomic
 
-    settings = CheckSettings(rate_hz=args.rate, duration_s=args.duration, margin=args.margin, friction=args.friction)
+    settings = settings_from_args(args)
     offsets = parse_heights(args.heights) if args.heights is not None else None
     if args.jobs is not None and args.jobs < 1:
         from legbridge.limits.sweep import SweepInputError
