@@ -11,20 +11,12 @@ import importlib
 import sys
 
 from legbridge.robots.errors import LegbridgeError
+from legbridge.robots.version import tool_version
 
 # Sub-command modules, each with register(subparsers) that sets ``func(args) -> int``.
 COMMAND_MODULES = ("robot", "translate", "check", "review", "sweep")
 
 EXIT_WITHIN, EXIT_EXCEEDS, EXIT_BAD_INPUT = 0, 1, 2
-
-
-def tool_version() -> str:
-    from importlib.metadata import PackageNotFoundError, version
-
-    try:
-        return version("legbridge")
-    except PackageNotFoundError:  # running from a source tree without installing
-        return "0+unknown"
 
 
 class _Parser(argparse.ArgumentParser):
@@ -35,6 +27,7 @@ class _Parser(argparse.ArgumentParser):
 
 
 def build_parser() -> argparse.ArgumentParser:
+    """The argument parser with every sub-command registered."""
     parser = _Parser(
         prog="legbridge",
         description="Translate spring-mass leg plans into joint targets and review them against the hardware's modelled limits.",
@@ -72,6 +65,7 @@ def attach_range_values(argv: list[str]) -> list[str]:
 
 
 def main(argv: list[str] | None = None) -> int:
+    """Run the command line; returns the exit status (0 within, 1 exceeds, 2 bad input)."""
     parser = build_parser()
     args = parser.parse_args(attach_range_values(list(sys.argv[1:] if argv is None else argv)))
     if not getattr(args, "func", None):

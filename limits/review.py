@@ -201,7 +201,7 @@ def run_review(plan, robot, settings: CheckSettings, out_dir, *, force: bool = F
             from legbridge.limits.sweep_table import to_csv_text, to_json_doc
 
             (staging / SWEEP_CSV).write_text(to_csv_text([swept]), encoding="utf-8")
-            from legbridge.limits.cli import tool_version
+            from legbridge.robots.version import tool_version
 
             doc = to_json_doc([swept], tool_version())
             (staging / SWEEP_JSON).write_text(json.dumps(doc, indent=2, allow_nan=False) + "\n", encoding="utf-8")

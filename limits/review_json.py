@@ -124,7 +124,7 @@ def case_to_json(review) -> dict:
 
 def review_to_json(reviews, plan, robot, settings: CheckSettings | None) -> dict:
     """The whole review as a JSON-ready dict (non-finite numbers already None)."""
-    from .cli import tool_version
+    from legbridge.robots.version import tool_version
 
     settings = settings or CheckSettings()
     doc = {

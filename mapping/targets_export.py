@@ -28,6 +28,7 @@ import numpy as np
 from legbridge.robots.errors import LegbridgeError
 from legbridge.robots.files import refuse_existing, write_atomic
 from legbridge.robots.robot import Robot
+from legbridge.robots.version import tool_version
 
 from .joint_trajectory import FLAG_NAMES, JointTrajectory
 from .plan import Plan
@@ -45,15 +46,6 @@ JOINT_COLUMNS = (
 
 class TargetsExportError(LegbridgeError, ValueError):
     """Targets cannot be written as asked (unknown extension, rate mismatch, missing folder)."""
-
-
-def tool_version() -> str:
-    from importlib.metadata import PackageNotFoundError, version
-
-    try:
-        return version("legbridge")
-    except PackageNotFoundError:  # source tree without an install
-        return "0+unknown"
 
 
 def column_names(joint_names) -> list[str]:

@@ -29,6 +29,7 @@ RESERVED_NAMES = ("body", "hip", "foot", "universe", "base_x", "base_z", "base_p
 
 
 def read_bytes(path: str | Path) -> bytes:
+    """The bytes of an input file; InputFileNotFound when it does not exist."""
     p = Path(path)
     if not p.is_file():
         raise InputFileNotFound("file not found", path=str(p))
@@ -36,6 +37,7 @@ def read_bytes(path: str | Path) -> bytes:
 
 
 def parse_toml(data: bytes, path: str) -> dict:
+    """A parsed TOML document; RobotFileError naming the file for bad UTF-8 or TOML."""
     try:
         return tomllib.loads(data.decode("utf-8"))
     except UnicodeDecodeError as exc:
@@ -45,6 +47,7 @@ def parse_toml(data: bytes, path: str) -> dict:
 
 
 def read_spring(t: Table) -> Spring | None:
+    """The series spring of a joint table, or None when it has none."""
     k = t.number("spring_stiffness_nm_per_rad", None, positive=True)
     c = t.number("spring_damping_nms_per_rad", None, nonneg=True)
     if k is None:
@@ -55,6 +58,7 @@ def read_spring(t: Table) -> Spring | None:
 
 
 def read_joint(name: str, t: Table) -> Joint:
+    """One ``[joints.<name>]`` table: hard stops, actuator, optional spring and joint-side limits."""
     lower = t.number("lower_rad")
     upper = t.number("upper_rad")
     if lower >= upper:
@@ -73,6 +77,7 @@ def read_joint(name: str, t: Table) -> Joint:
 
 
 def read_segment(t: Table) -> Segment:
+    """One ``[[segments]]`` table (lengths in m, mass in kg, inertia in kg m^2)."""
     seg = Segment(
         name=t.string("name"),
         length_m=t.number("length_m", positive=True),

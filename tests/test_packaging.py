@@ -57,3 +57,17 @@ def test_readme_has_a_caution_section_and_never_calls_a_plan_safe():
     text = (ROOT / "README.md").read_text().lower()
     assert "## caution" in text
     assert "never calls a plan safe" in text
+
+
+def test_every_public_function_and_class_has_a_docstring():
+    missing = []
+    for layer in LAYERS:
+        for py in (ROOT / layer).rglob("*.py"):
+            tree = ast.parse(py.read_text())
+            if not ast.get_docstring(tree):
+                missing.append(f"{py.relative_to(ROOT)}: module")
+            for node in tree.body:
+                if isinstance(node, (ast.FunctionDef, ast.ClassDef)) and not node.name.startswith("_"):
+                    if not ast.get_docstring(node):
+                        missing.append(f"{py.relative_to(ROOT)}:{node.lineno} {node.name}")
+    assert not missing, missing

@@ -40,6 +40,7 @@ class CheckContext:
 
 
 def frozen(a) -> np.ndarray:
+    """A read-only float copy of ``a``."""
     out = np.array(a, dtype=float, copy=True)
     out.setflags(write=False)
     return out

@@ -17,6 +17,7 @@ LIMITS = ("unilateral_force", "friction_cone")
 
 
 def evaluate(ctx: CheckContext):
+    """This limit's LimitTraces for one case (value, allowed and utilisation per sample)."""
     f = np.asarray(ctx.traj.foot_force_n, dtype=float)
     fx, fz = f[:, 0], f[:, 1]
     stance = np.asarray(ctx.traj.stance, dtype=bool)

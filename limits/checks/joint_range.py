@@ -15,6 +15,7 @@ LIMITS = ("joint_range",)
 
 
 def evaluate(ctx: CheckContext):
+    """This limit's LimitTraces for one case (value, allowed and utilisation per sample)."""
     out = []
     for i, joint in ctx.joints():
         q = ctx.traj.q[:, i]

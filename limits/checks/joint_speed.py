@@ -13,6 +13,7 @@ LIMITS = ("joint_speed",)
 
 
 def evaluate(ctx: CheckContext):
+    """This limit's LimitTraces for one case (value, allowed and utilisation per sample)."""
     out = []
     for i, joint in ctx.joints():
         bound = max_joint_speed(joint)

@@ -12,6 +12,7 @@ LIMITS = ("mapping",)
 
 
 def evaluate(ctx: CheckContext):
+    """This limit's LimitTraces for one case (value, allowed and utilisation per sample)."""
     flags = np.asarray(ctx.traj.flags).astype(np.int64)
     util = np.where(flags != 0, np.inf, 0.0)
     return (trace("mapping", "", "flag bits", flags.astype(float), 0.0, util, source="joint trajectory flags"),)

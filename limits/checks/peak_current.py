@@ -11,6 +11,7 @@ LIMITS = ("peak_current",)
 
 
 def evaluate(ctx: CheckContext):
+    """This limit's LimitTraces for one case (value, allowed and utilisation per sample)."""
     out = []
     for i, joint in ctx.joints():
         cur = ctx.traj.current_a[:, i]

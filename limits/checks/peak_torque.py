@@ -14,6 +14,7 @@ LIMITS = ("peak_torque",)
 
 
 def evaluate(ctx: CheckContext):
+    """This limit's LimitTraces for one case (value, allowed and utilisation per sample)."""
     out = []
     for i, joint in ctx.joints():
         tau = ctx.traj.tau[:, i]

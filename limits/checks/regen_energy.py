@@ -38,6 +38,7 @@ def step_regen_energy_j(traj) -> np.ndarray:
 
 
 def evaluate(ctx: CheckContext):
+    """This limit's LimitTraces for one case (value, allowed and utilisation per sample)."""
     cap = ctx.settings.regen_energy_j
     if cap is None:
         return ()

@@ -16,6 +16,7 @@ def total_power_w(traj) -> np.ndarray:
 
 
 def evaluate(ctx: CheckContext):
+    """This limit's LimitTraces for one case (value, allowed and utilisation per sample)."""
     cap = ctx.settings.supply_power_w
     if cap is None:
         return ()

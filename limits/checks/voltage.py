@@ -13,6 +13,7 @@ LIMITS = ("voltage",)
 
 
 def evaluate(ctx: CheckContext):
+    """This limit's LimitTraces for one case (value, allowed and utilisation per sample)."""
     out = []
     for i, joint in ctx.joints():
         act = joint.actuator

@@ -11,6 +11,7 @@ LIMITS = ("winding_temperature",)
 
 
 def evaluate(ctx: CheckContext):
+    """This limit's LimitTraces for one case (value, allowed and utilisation per sample)."""
     th = ctx.thermal
     out = []
     for i, joint in ctx.joints():

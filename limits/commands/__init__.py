@@ -1,0 +1,1 @@
+"""The sub-commands of ``legbridge``, one module each (see limits/cli.py)."""

@@ -18,6 +18,7 @@ EXIT_WITHIN, EXIT_EXCEEDS = 0, 1
 
 
 def register(subparsers) -> None:
+    """Add the ``check`` sub-command to ``legbridge`` (sets ``func``)."""
     p = subparsers.add_parser("check", help="check a plan's cases against the robot's modelled limits",
                               description="Translate every case of PLAN for ROBOT and check each sample against the "
                                           "modelled limits (range, speed, torque, voltage, current, temperature, power, "
@@ -86,6 +87,7 @@ def summary_lines(reviews, robot, plan_label: str, settings) -> list[str]:
 
 
 def run(args) -> int:
+    """Run ``legbridge check``; returns the exit status."""
     from legbridge.limits.check import check_plan
     from legbridge.limits.review_json import review_to_json, write_json
 

@@ -23,6 +23,7 @@ class ReviewUsageError(LegbridgeError, ValueError):
 
 
 def register(sub) -> None:
+    """Add the ``review`` sub-command to ``legbridge`` (sets ``func``)."""
     p = sub.add_parser("review", help=HELP, description=HELP[0].upper() + HELP[1:] + ".")
     p.add_argument("plan", nargs="?", metavar="PLAN", help="plan file (.csv, .json, .npz, .mat)")
     p.add_argument("--robot", metavar="ROBOT", help="robot description file, or the name of a bundled robot")
@@ -96,6 +97,7 @@ def summary_lines(outcome) -> list[str]:
 
 
 def run(args: argparse.Namespace) -> int:
+    """Run ``legbridge review``; returns the exit status."""
     from legbridge.limits.review import run_demo_review, run_review
 
     if args.demo and (args.plan or args.robot):

@@ -21,6 +21,7 @@ from legbridge.robots.urdf_export import export_urdf
 
 
 def register(subparsers) -> None:
+    """Add the ``robot`` sub-command to ``legbridge`` (sets ``func``)."""
     p = subparsers.add_parser("robot", help="show a robot description's derived limits, or export it as URDF")
     sub = p.add_subparsers(dest="robot_command", metavar="ACTION", parser_class=type(p))
     show = sub.add_parser("show", help="print segments, joints, ranges and derived actuator limits")
@@ -34,6 +35,7 @@ def register(subparsers) -> None:
 
 
 def run_show(args) -> int:
+    """``legbridge robot show``: print the summary; exit status 0."""
     robot = load_robot(resolve_robot(args.file))
     print(robot_summary(robot))
     print()
@@ -42,6 +44,7 @@ def run_show(args) -> int:
 
 
 def run_export(args) -> int:
+    """``legbridge robot export-urdf``: write the URDF atomically; exit status 0."""
     src = resolve_robot(args.file)
     robot = load_robot(src)
     out = Path(args.output)

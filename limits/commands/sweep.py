@@ -23,6 +23,7 @@ HELP = "re-simulate a plan's policy on many ground heights and check every case"
 
 
 def register(subparsers) -> None:
+    """Add the ``sweep`` sub-command to ``legbridge`` (sets ``func``)."""
     p = subparsers.add_parser(
         "sweep", help=HELP,
         description="Re-simulate the open-loop policy of PLAN (actuated spring-mass model) on a range of ground-height "
@@ -126,7 +127,8 @@ def summary_lines(sweeps, jobs_label: str) -> list[str]:
 
 
 def run(args) -> int:
-    from legbridge.limits.cli import tool_version
+    """Run ``legbridge sweep``; returns the exit status."""
+    from legbridge.robots.version import tool_version
     from legbridge.limits.sweep import exit_status, parse_heights
     from legbridge.limits.sweep_runner import run_sweep
     from legbridge.limits.sweep_table import check_writable, write_csv, write_json

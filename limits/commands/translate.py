@@ -19,6 +19,7 @@ from legbridge.robots.errors import LegbridgeError, OutputExistsError
 
 
 def register(subparsers) -> None:
+    """Add the ``translate`` sub-command to ``legbridge`` (sets ``func``)."""
     p = subparsers.add_parser("translate", help="translate a plan's cases into joint targets at the controller rate")
     p.add_argument("plan", metavar="PLAN", help="plan file (.csv, .json, .npz, .mat)")
     p.add_argument("--robot", required=True, metavar="ROBOT", help="robot TOML file or bundled robot name")
@@ -47,6 +48,7 @@ def summary_lines(plan, trajs, out: Path, rate_hz: float) -> list[str]:
 
 
 def run(args) -> int:
+    """Run ``legbridge translate``; returns the exit status."""
     from legbridge.mapping.readers import read_plan
     from legbridge.mapping.targets_export import write_targets
     from legbridge.mapping.translate import translate_plan

@@ -9,21 +9,13 @@ from importlib import resources
 from pathlib import Path
 
 from legbridge.robots.files import refuse_existing, write_atomic
+from legbridge.robots.version import tool_version
 
 from . import sections
 
 
 def _css() -> str:
     return (resources.files(__package__) / "style.css").read_text(encoding="utf-8")
-
-
-def _version() -> str:
-    from importlib.metadata import PackageNotFoundError, version
-
-    try:
-        return version("legbridge")
-    except PackageNotFoundError:
-        return "0+unknown"
 
 
 def render_report(reviews, plan, robot, settings, *, created: str | None = None, sweep=None) -> str:
@@ -33,7 +25,7 @@ def render_report(reviews, plan, robot, settings, *, created: str | None = None,
     sweep: a limits.sweep.SweepResult of the same plan and robot, shown before the sign-off, or None.
     """
     created = created or datetime.now().astimezone().isoformat(timespec="seconds")
-    version = _version()
+    version = tool_version()
     body = "".join([
         sections.caution_identity(plan, robot, settings, version=version, created=created),
         sections.verdicts(reviews),

@@ -38,6 +38,7 @@ def slug(text: str) -> str:
 
 
 def num(x, fmt: str = ".4g") -> str:
+    """A number for a table cell ('not evaluated' for NaN, infinity signs)."""
     if x is None:
         return "&ndash;"
     x = float(x)
@@ -49,6 +50,7 @@ def num(x, fmt: str = ".4g") -> str:
 
 
 def pct(u) -> str:
+    """A utilisation as a percentage for a table cell."""
     if u is None or math.isnan(float(u)):
         return "not evaluated"
     if math.isinf(float(u)):
@@ -57,11 +59,13 @@ def pct(u) -> str:
 
 
 def img(fig: plots.Figure) -> str:
+    """The figure's PNG as an embedded <img> element."""
     data = base64.b64encode(fig.png).decode("ascii")
     return f'<img src="data:image/png;base64,{data}" alt="{escape(fig.alt)}">'
 
 
 def figure(fig: plots.Figure, caption: str) -> str:
+    """The figure with its caption and notes as HTML."""
     notes = "".join(f'<p class="note">{escape(n)}</p>' for n in fig.notes)
     return f'<figure id="fig-{slug(fig.name)}">{img(fig)}<figcaption>{caption}</figcaption></figure>{notes}'
 
@@ -194,7 +198,7 @@ def thermal(reviews, robot, settings) -> str:
             v = ttl.get(j)
             cells.append(("not reached" if v is None or (isinstance(v, float) and math.isinf(v)) else num(v), "num"))
         body.append(_row([escape(r.case)] + cells))
-    return (f'<section id="thermal"><h2>5. Winding temperature over the test</h2>'
+    return ('<section id="thermal"><h2>5. Winding temperature over the test</h2>'
             + figure(f, "Winding temperature [&deg;C] against time [s] over the test duration; solid dark-red line: the winding "
                         "limit, dotted: ambient. One line style per case.")
             + f'<table>{head}{"".join(body)}</table></section>')

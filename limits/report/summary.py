@@ -97,6 +97,7 @@ def limit_label(limit: str) -> str:
 
 
 def joint_label(joint: str) -> str:
+    """A joint name for people ('whole leg' for limits of the whole leg)."""
     return joint if joint else "whole leg"
 
 

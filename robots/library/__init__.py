@@ -11,6 +11,7 @@ def library_path(name: str) -> Path:
 
 
 def library_names() -> list[str]:
+    """File names of the bundled robot descriptions (``*.toml``)."""
     return sorted(p.name for p in resources.files(__name__).iterdir() if p.name.endswith(".toml"))
 
 
