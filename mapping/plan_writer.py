@@ -245,7 +245,7 @@ def _write_mat(plan: Plan, fh, path: str) -> None:
         scipy.io.savemat(fh, plan_to_mat(plan, path), do_compression=True, oned_as="column")
     except PlanFormatError:
         raise
-    except ValueError as exc:  # e.g. a field name longer than MATLAB allows
+    except ValueError as exc:  # e.g. a field name longer than the MAT-file format allows
         raise PlanFormatError(f"plan cannot be written as a MAT-file ({exc})", path=path) from exc
 
 

@@ -1,6 +1,6 @@
-"""MAT-file plans (MATLAB 5 / 7 format, read with scipy.io.loadmat; 7.3/HDF5 files are refused).
+"""MAT-file plans (level 5 / version 7 MAT-files, read with scipy.io.loadmat; v7.3/HDF5 files are refused).
 
-Variables (MATLAB notation; keys as in the CSV/JSON formats)::
+Variables (MAT-file notation; keys as in the CSV/JSON formats)::
 
     format                 char     'legbridge.plan/1'                       required
     units                  char     'si' | 'nondimensional'                   required
@@ -19,9 +19,9 @@ Variables (MATLAB notation; keys as in the CSV/JSON formats)::
         .body_x_m, .body_z_m, .body_vx_m_s, .body_vz_m_s, .actuator_length_m,
         .spring_deflection_m   double vectors                                 optional
 
-In MATLAB: ``c.name = 'nominal'; c.time_s = t; ...; cases = {c, c2};
-save('plan.mat', 'format', 'units', 'cases')``. Error messages name entries the MATLAB way,
-``cases{2}.time_s(4)`` (1-based).
+Written from a numerical environment that saves MAT-files: a struct ``c`` with ``c.name``,
+``c.time_s`` and so on per case, ``cases = {c, c2}``, then save ``format``, ``units`` and ``cases``.
+Error messages name entries in cell/struct notation, ``cases{2}.time_s(4)`` (1-based).
 """
 
 from __future__ import annotations
