@@ -76,6 +76,11 @@ def main(argv: list[str] | None = None) -> int:
     except LegbridgeError as exc:
         print(f"legbridge: error: {exc}", file=sys.stderr)
         return EXIT_BAD_INPUT
+    except BrokenPipeError:  # output piped into a program that stopped reading (e.g. head)
+        import os
+
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())  # Python docs, "Note on SIGPIPE"
+        return EXIT_EXCEEDS
     except KeyboardInterrupt:
         print("legbridge: interrupted; no output was written", file=sys.stderr)
         return 130
