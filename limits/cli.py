@@ -76,6 +76,10 @@ def main(argv: list[str] | None = None) -> int:
     except LegbridgeError as exc:
         print(f"legbridge: error: {exc}", file=sys.stderr)
         return EXIT_BAD_INPUT
+    except OSError as exc:  # the file system refused (permissions, a full disk...): one line, no traceback
+        where = f"{exc.filename}: " if getattr(exc, "filename", None) else ""
+        print(f"legbridge: error: {where}{exc.strerror or exc}", file=sys.stderr)
+        return EXIT_BAD_INPUT
     except BrokenPipeError:  # output piped into a program that stopped reading (e.g. head)
         import os
 

@@ -45,7 +45,10 @@ def write_atomic(path: str | Path, data: bytes | str | Callable[[BinaryIO], None
         raise LegbridgeError("output folder does not exist", path=str(folder), hint="create it first")
     if p.is_dir():
         raise LegbridgeError("output path is a folder", path=str(p), expected="a file name", found="a folder")
-    fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".tmp", dir=folder)
+    try:
+        fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".tmp", dir=folder)
+    except OSError as exc:
+        raise LegbridgeError(f"cannot write in this folder ({exc.strerror})", path=str(folder)) from exc
     try:
         with os.fdopen(fd, "wb") as fh:
             if callable(data):
@@ -56,10 +59,12 @@ def write_atomic(path: str | Path, data: bytes | str | Callable[[BinaryIO], None
             os.fsync(fh.fileno())
         os.chmod(tmp, 0o666 & ~_umask())
         os.replace(tmp, p)
-    except BaseException:
+    except BaseException as exc:
         try:
             os.unlink(tmp)
         except FileNotFoundError:
             pass
+        if isinstance(exc, OSError):
+            raise LegbridgeError(f"could not write the file ({exc.strerror or exc})", path=str(p)) from exc
         raise
     return p

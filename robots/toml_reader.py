@@ -31,9 +31,14 @@ RESERVED_NAMES = ("body", "hip", "foot", "universe", "base_x", "base_z", "base_p
 def read_bytes(path: str | Path) -> bytes:
     """The bytes of an input file; InputFileNotFound when it does not exist."""
     p = Path(path)
+    if p.is_dir():
+        raise InputFileNotFound("this is a folder", path=str(p), expected="a robot file", found="a folder")
     if not p.is_file():
         raise InputFileNotFound("file not found", path=str(p))
-    return p.read_bytes()
+    try:
+        return p.read_bytes()
+    except OSError as exc:
+        raise InputFileNotFound(f"cannot read the file ({exc.strerror})", path=str(p)) from exc
 
 
 def parse_toml(data: bytes, path: str) -> dict:

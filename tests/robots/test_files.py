@@ -39,3 +39,9 @@ def test_refuses_existing_file_and_missing_folder_and_cleans_up_on_failure(tmp_p
         write_atomic(p, broken, force=True)
     assert p.read_bytes() == b"2"
     assert sorted(q.name for q in tmp_path.iterdir()) == ["a.bin"]
+
+
+def test_a_folder_that_refuses_files_is_one_clear_error():
+    # /proc accepts no new files (Linux procfs; common practice), even for root
+    with pytest.raises(LegbridgeError, match="/proc: cannot write in this folder"):
+        write_atomic("/proc/legbridge-test.txt", "x")
