@@ -1,7 +1,8 @@
 """The ``legbridge`` command line: one sub-command per module in limits/commands/.
 
 Exit status (DESIGN.md): 0 every case within the modelled limits, 1 a limit is exceeded (the review
-is still written), 2 bad input (one message on stderr, no traceback, nothing written).
+is still written), 2 bad input (one message on stderr, no traceback, nothing written), 3 an
+internal error (a bug: the run did not complete).
 """
 
 from __future__ import annotations
@@ -16,7 +17,7 @@ from legbridge.robots.version import tool_version
 # Sub-command modules, each with register(subparsers) that sets ``func(args) -> int``.
 COMMAND_MODULES = ("robot", "translate", "check", "review", "sweep")
 
-EXIT_WITHIN, EXIT_EXCEEDS, EXIT_BAD_INPUT = 0, 1, 2
+EXIT_WITHIN, EXIT_EXCEEDS, EXIT_BAD_INPUT, EXIT_INTERNAL = 0, 1, 2, 3
 
 
 class _Parser(argparse.ArgumentParser):
@@ -88,6 +89,16 @@ def main(argv: list[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("legbridge: interrupted; no output was written", file=sys.stderr)
         return 130
+    except Exception as exc:  # a bug: fail closed, never a silent pass; the traceback on request
+        import os
+        import traceback
+
+        if os.environ.get("LEGBRIDGE_TRACEBACK"):
+            traceback.print_exc()
+        print(f"legbridge: internal error ({type(exc).__name__}: {exc}); the run did not complete and nothing it "
+              "would have written can be relied on. Please report it with the input files; set "
+              "LEGBRIDGE_TRACEBACK=1 to see the traceback.", file=sys.stderr)
+        return EXIT_INTERNAL
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -18,3 +18,15 @@ def test_no_command_and_unknown_options_exit_2(capsys):
         main(["check", "--no-such-option"])
     assert exc.value.code == 2
     assert "legbridge: error" in capsys.readouterr().err
+
+
+def test_an_internal_error_fails_closed_with_exit_3(monkeypatch, capsys):
+    import legbridge.limits.commands.robot as robot_cmd
+
+    def broken(args):
+        raise ZeroDivisionError("a bug")
+
+    monkeypatch.setattr(robot_cmd, "run_show", broken)
+    assert main(["robot", "show", "example-leg"]) == 3
+    err = capsys.readouterr().err
+    assert "internal error (ZeroDivisionError: a bug)" in err and "Traceback" not in err
