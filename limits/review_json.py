@@ -24,6 +24,8 @@ Schema (every number SI; a number that is not finite is written as null; times i
                     limit_temp_c: joint -> limit, time_to_limit_s: joint -> time or null}
       regen_energy_j_per_step   list of energies regenerated per step [J]
       power_w       {peak_motor_w: joint -> W, peak_total_w, min_total_w}
+      base_residual {max_force_x_n, max_force_z_n, max_moment_nm, t_max_force_s}: the largest wrench the
+                    body would need beyond what the leg gives (plan's body motion vs the leg's masses)
       qp            {force_feasibility, nearest_motion}: each null (not run) or {status, ok, solver,
                     solve_time_s, residuals: {primal_inf, stationarity_inf, complementarity_inf,
                     objective, solver_time_s}, and for the force QP max_shortfall_n,
@@ -117,6 +119,7 @@ def case_to_json(review) -> dict:
         "thermal": thermal,
         "regen_energy_j_per_step": [] if review.regen_energy_j is None else review.regen_energy_j,
         "power_w": dict(review.power_w),
+        "base_residual": traj.base_residual_summary(),
         "qp": {"force_feasibility": _qp(review.force_qp, "force", traj.joint_names),
                "nearest_motion": _qp(review.motion_qp, "motion", traj.joint_names)},
     }

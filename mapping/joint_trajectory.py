@@ -72,3 +72,14 @@ class JointTrajectory:
     @property
     def n_joints(self) -> int:
         return len(self.joint_names)
+
+    def base_residual_summary(self) -> dict:
+        """Largest base residual over the case: |x force| [N], |z force| [N], |pitch moment| [N m],
+        and the time [s] of the largest force magnitude (how far the plan's body motion is from what
+        this leg's masses imply)."""
+        r = np.asarray(self.base_residual, dtype=float)
+        if r.size == 0:
+            return {"max_force_x_n": 0.0, "max_force_z_n": 0.0, "max_moment_nm": 0.0, "t_max_force_s": None}
+        k = int(np.argmax(np.hypot(r[:, 0], r[:, 1])))
+        return {"max_force_x_n": float(np.max(np.abs(r[:, 0]))), "max_force_z_n": float(np.max(np.abs(r[:, 1]))),
+                "max_moment_nm": float(np.max(np.abs(r[:, 2]))), "t_max_force_s": float(self.time_s[k])}

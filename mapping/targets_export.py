@@ -90,6 +90,7 @@ def build_metadata(trajs, *, plan: Plan, robot: Robot, rate_hz: float) -> dict:
         "ground_height_m": {t.case: t.ground_height_m for t in trajs},
         "samples": {t.case: t.n_samples for t in trajs},
         "flag_counts": {t.case: flag_counts(t) for t in trajs},
+        "base_residual": {t.case: t.base_residual_summary() for t in trajs},
         "flag_bits": {str(bit): name for bit, name in FLAG_NAMES.items()},
         "conventions": "SI units; x forward, z up; joint angles zero hanging straight down, positive about +y; "
                        "joint torque applied by the actuator to the child segment, positive about +y",

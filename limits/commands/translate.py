@@ -41,8 +41,11 @@ def summary_lines(plan, trajs, out: Path, rate_hz: float) -> list[str]:
         lines.append(f"  {plan.scaling.describe()}")
     for t in trajs:
         reasons = [f"{int(((t.flags & bit) != 0).sum())} {name}" for bit, name in FLAG_NAMES.items() if ((t.flags & bit) != 0).any()]
+        res = t.base_residual_summary()
         lines.append(f"  {t.case}: {t.n_samples} samples, {int((t.flags != 0).sum())} flagged"
-                     + (f" ({', '.join(reasons)})" if reasons else ""))
+                     + (f" ({', '.join(reasons)})" if reasons else "")
+                     + f"; base residual up to {res['max_force_x_n']:.3g} N (x), {res['max_force_z_n']:.3g} N (z), "
+                       f"{res['max_moment_nm']:.3g} N m (pitch)")
     lines.append(f"targets written to {out}")
     return lines
 

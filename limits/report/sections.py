@@ -156,6 +156,13 @@ def cases(reviews, robot, settings) -> str:
         fj = plots.case_joints_figure(r, robot)
         ff = plots.case_force_figure(r, robot, settings.friction)
         findings = "".join(f'<p class="finding">Could not be evaluated: {escape(f)}</p>' for f in r.findings)
+        res = r.trajectory.base_residual_summary()
+        weight = robot.total_mass_kg * 9.81
+        share = f" ({100.0 * max(res['max_force_x_n'], res['max_force_z_n']) / weight:.1f}&nbsp;% of the body weight)" if weight > 0 else ""
+        findings += (f'<p class="note">Base residual, the wrench the body would need beyond what the leg gives (the plan\'s '
+                     f"body motion against this leg's masses): up to {num(res['max_force_x_n'], '.3g')} N along x, "
+                     f"{num(res['max_force_z_n'], '.3g')} N along z{share} and {num(res['max_moment_nm'], '.3g')} N m in pitch. "
+                     "It is not a hardware limit; a large value means the plan's model and this leg disagree.</p>")
         parts.append(
             f'<article class="case" id="case-{slug(r.case)}"><h3>Case {escape(r.case)} '
             f'(ground height {num(r.ground_height_m)} m): {escape(verdict_words(r))}</h3>{findings}'

@@ -51,6 +51,10 @@ def test_csv_parses_with_the_csv_module(tmp_path, translated, example_robot):
     assert meta["flag_counts"]["step, down"]["pose out of reach"] > 0
     assert meta["flag_counts"]["nominal"]["any"] == 0
     assert meta["scaling"]["length_m"] == 0.72
+    # the base residual summary is the largest |component| of the translation's residual wrench
+    res = meta["base_residual"]["nominal"]
+    assert res["max_force_z_n"] == pytest.approx(float(np.max(np.abs(trajs[0].base_residual[:, 1]))))
+    assert res["max_moment_nm"] == pytest.approx(float(np.max(np.abs(trajs[0].base_residual[:, 2]))))
     assert read_targets_metadata(out) == meta
 
 
