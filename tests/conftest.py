@@ -15,3 +15,14 @@ def example_robot():
 @pytest.fixture(scope="session")
 def example_leg_model(example_robot):
     return build_leg_model(example_robot)
+
+
+# Property-based tests draw the same examples on every run (common practice for CI: a failure seen
+# once is seen again); `--hypothesis-seed` or HYPOTHESIS_PROFILE=explore brings randomness back.
+import os  # noqa: E402
+
+from hypothesis import settings as _hyp_settings  # noqa: E402
+
+_hyp_settings.register_profile("ci", derandomize=True, deadline=None, print_blob=True)
+_hyp_settings.register_profile("explore", deadline=None)
+_hyp_settings.load_profile(os.environ.get("HYPOTHESIS_PROFILE", "ci"))
