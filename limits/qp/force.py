@@ -129,6 +129,8 @@ def force_feasibility(traj, robot, mu: float, solver: str = "CLARABEL"):
     sub = idx[~own]
     prob = build(traj.jacobian[sub], traj.tau_free[sub], plan[sub], lo[sub], hi[sub], mu)
     x, sol = solve(prob, solver)
+    if sub.size == 0:
+        sol = replace(sol, solver="none (the planned force is feasible at every stance sample)")
     n, nj = traj.n_samples, traj.n_joints
     f_sub, s_sub = unpack(x, sub.size, nj)
     force = np.full((n, 2), np.nan)
