@@ -27,6 +27,9 @@ def register(subparsers) -> None:
     p.add_argument("--robot", required=True, metavar="ROBOT", help="robot description (TOML, or URDF + actuator table)")
     add_check_options(p)
     p.add_argument("--json", default=None, metavar="OUT", help="write the review as JSON to OUT")
+    p.add_argument("--modified-targets", default=None, metavar="OUT",
+                   help="also write the nearest feasible motion (QP) as MODIFIED targets to OUT (CSV; the name must "
+                        "contain 'modified'); never the reviewed plan")
     p.add_argument("--force", action="store_true", help="replace OUT if it exists")
     p.set_defaults(func=run)
 
@@ -92,8 +95,15 @@ def run(args) -> int:
     from legbridge.limits.review_json import review_to_json, write_json
 
     settings = settings_from_args(args)
-    if args.json and Path(args.json).exists() and not args.force:
-        raise OutputExistsError("output file exists", path=args.json, hint="pass --force to replace it")
+    for out in (args.json, args.modified_targets):
+        if out and Path(out).exists() and not args.force:
+            raise OutputExistsError("output file exists", path=out, hint="pass --force to replace it")
+    if args.modified_targets and "modified" not in Path(args.modified_targets).name.lower():
+        from legbridge.limits.corrected_targets import CorrectedTargetsError
+
+        raise CorrectedTargetsError("modified targets need a marked file name", path=args.modified_targets,
+                                    expected="a name containing 'modified' (e.g. targets-modified.csv)",
+                                    found=Path(args.modified_targets).name)
     plan, robot, trajs = load_inputs(args.plan, args.robot, settings.rate_hz)
     reviews = check_plan(trajs, robot, settings)
     lines = summary_lines(reviews, robot, args.plan, settings)
@@ -104,4 +114,10 @@ def run(args) -> int:
     if args.json:
         write_json(review_to_json(reviews, plan, robot, settings), args.json, force=args.force)
         print(f"  review written to {args.json}", file=sys.stderr)
+    if args.modified_targets:
+        from legbridge.limits.corrected_targets import write_corrected_targets
+
+        write_corrected_targets(reviews, args.modified_targets, plan=plan, robot=robot, force=args.force)
+        print(f"  MODIFIED targets (nearest feasible motion, not the plan) written to {args.modified_targets}",
+              file=sys.stderr)
     return EXIT_WITHIN if all(r.passed for r in reviews) else EXIT_EXCEEDS
