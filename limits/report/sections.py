@@ -32,8 +32,9 @@ SIGNOFF_ITEMS = (
 
 
 def slug(text: str) -> str:
-    """A stable id fragment for a case or joint name."""
-    s = re.sub(r"[^A-Za-z0-9_-]+", "-", str(text)).strip("-")
+    """A stable id fragment for a case or joint name, different for different names: letters, digits
+    and '-' stay, every other character becomes '_<hex code>_' ('ground+0.06m' -> 'ground_2b_0_2e_06m')."""
+    s = re.sub(r"[^A-Za-z0-9-]", lambda m: f"_{ord(m.group()):x}_", str(text))
     return s or "x"
 
 

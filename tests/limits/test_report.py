@@ -225,3 +225,12 @@ def test_write_report_is_atomic_and_refuses_overwrite(tmp_path, robot):
     assert out.read_bytes() != first
     assert sorted(p.name for p in tmp_path.iterdir()) == ["report.html"]  # no temp file left
     assert exit_code((rv,)) == 0 and math.isfinite(rv.worst["peak_torque"])
+
+
+def test_case_ids_differ_for_cases_that_differ_only_in_sign():
+    # 'ground-0.06m' and 'ground+0.06m' must not share an anchor (links in the verdict table)
+    from legbridge.limits.report.sections import slug
+
+    names = ["ground-0.06m", "ground+0.06m", "ground_0.06m", "ground 0.06m", "nominal"]
+    assert len({slug(n) for n in names}) == len(names)
+    assert all(c.isalnum() or c in "-_" for n in names for c in slug(n))
