@@ -21,6 +21,8 @@ difference ``dvx_m_s`` [m/s]; RMS over the paired apexes and the last paired one
 
 from __future__ import annotations
 
+from legbridge.limits.formatting import utilisation_text
+
 import math
 from dataclasses import dataclass, field
 
@@ -289,12 +291,7 @@ class SweepWindow:
         return self.lo_m is None
 
 
-def pct_text(u: float) -> str:
-    """A utilisation in % for people: 0.1 % steps, 0.01 % steps within 0.5 % of the limit (so an
-    exceeding 100.004 % reads '100.00 %' rather than a misleading '100.0 %' next to 'exceeds'), 'not finite'."""
-    if not math.isfinite(u):
-        return "not finite"
-    return f"{u:.2%}" if abs(u - 1.0) < 0.005 else f"{u:.1%}"
+pct_text = utilisation_text  # the sweep's name for the shared rule
 
 
 def closing_end(r: OffsetResult) -> WindowEnd:

@@ -13,6 +13,7 @@ import re
 from html import escape
 
 from legbridge.limits.cautions import CAUTIONS
+from legbridge.limits.formatting import utilisation_text
 
 from . import plots
 from .summary import SEVERITY_WORDS, VERDICT_CLASS, exceeded_limits, joint_label, limit_label, ranked, verdict_words, worst_of
@@ -51,12 +52,8 @@ def num(x, fmt: str = ".4g") -> str:
 
 
 def pct(u) -> str:
-    """A utilisation as a percentage for a table cell."""
-    if u is None or math.isnan(float(u)):
-        return "not evaluated"
-    if math.isinf(float(u)):
-        return "not finite"
-    return f"{100.0 * float(u):.1f}&nbsp;%"
+    """A utilisation as a percentage for a table cell (limits.formatting.utilisation_text)."""
+    return escape(utilisation_text(u)).replace(" %", "&nbsp;%")
 
 
 def img(fig: plots.Figure) -> str:

@@ -6,6 +6,8 @@ do not know is never shown as within the modelled limits.
 
 from __future__ import annotations
 
+from legbridge.limits.formatting import utilisation_text
+
 import math
 from dataclasses import dataclass
 
@@ -124,13 +126,7 @@ def exceeded_limits(review) -> str:
     return "; ".join(f"{lim} ({', '.join(j)})" for lim, j in by_limit.items())
 
 
-def pct_text(u: float) -> str:
-    """Utilisation as plain text: '115.7 %', or words when it is not finite (fail closed)."""
-    if u is None or math.isnan(u):
-        return "not evaluated"
-    if math.isinf(u):
-        return "not finite (counted as exceeding)"
-    return f"{100.0 * u:.1f} %"
+pct_text = utilisation_text  # the report's name for the shared rule
 
 
 def exit_code(reviews) -> int:

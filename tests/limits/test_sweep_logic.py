@@ -46,7 +46,7 @@ def test_window_is_the_contiguous_run_containing_zero_and_names_what_closes_it()
     w = sweep_window(rs)  # any input order
     assert (w.lo_m, w.hi_m, w.n_within) == (-0.02, 0.02, 3)
     assert w.below.kind == END_LIMIT and w.below.first_out_m == -0.04 and w.below.limit == "peak_torque"
-    assert w.below.joint == "hip" and w.below.utilisation == 1.3 and "130.0%" in w.below.text
+    assert w.below.joint == "hip" and w.below.utilisation == 1.3 and "130.0 %" in w.below.text
     assert w.above.kind == END_FALL and w.above.first_out_m == 0.04 and "body moving backward" in w.above.text
     # a within offset beyond a failing one does not join the window (contiguity)
     w2 = sweep_window([res(-0.02), res(0.0), res(0.02, CASE_EXCEEDS, u=1.1), res(0.04)])
