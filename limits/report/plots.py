@@ -26,7 +26,7 @@ HATCH = {SEVERITY_EXCEEDS: "////", SEVERITY_NEAR: ".."}
 FILL = {SEVERITY_EXCEEDS: FILL_EXCEEDS, SEVERITY_NEAR: FILL_NEAR}
 LINESTYLES = ("-", "--", "-.", ":", (0, (5, 1, 1, 1, 1, 1)), (0, (1, 2)))
 MARKERS = ("o", "s", "^", "D", "v", "x", "+", "*")
-DPI = 96
+DPI = 140  # sharp enough for print at the figure sizes used; drawing, not rasterising, sets the time
 
 # Rows of the per-case joint figure: (key, label with unit)
 ROWS = (("angle", "angle [rad]"), ("speed", "speed [rad/s]"), ("torque", "torque [N m]"))
@@ -253,7 +253,7 @@ def case_joints_figure(review, robot) -> Figure:
     extra = [
         Line2D([], [], color=PLAN, linewidth=1.3, label="planned"),
         Line2D([], [], color=LIMIT, linewidth=1.8, label="limit: stops, max speed, peak torque"),
-        Line2D([], [], color=LIMIT, linewidth=0.9, linestyle="--", label="tighter torque bound at planned speed (voltage)"),
+        Line2D([], [], color=LIMIT, linewidth=0.9, linestyle="--", label="voltage-limited torque at planned speed"),
     ]
     _legend_for_shading(fig, severities, extra)
     fig.suptitle(f"Case {review.case}: joint targets against the modelled limits", fontsize=10, color=INK)

@@ -38,7 +38,7 @@ def _series(result):
 
 def plot_sweep(result, *, title: str | None = None) -> Figure:
     """Figure of one SweepResult (one plan on one robot); see the module docstring."""
-    fig = Figure(figsize=(8.0, 4.8), dpi=100)
+    fig = Figure(figsize=(8.0, 4.8), dpi=140)
     FigureCanvasAgg(fig)
     ax = fig.add_subplot(1, 1, 1)
     x, ys = _series(result)
