@@ -142,6 +142,8 @@ class OffsetTask:
     robot_path, robot_sha256: the robot file (workers load it once per process and verify the hash)
     settings: the check settings; qps: one of QP_MODES
     keep_trajectory: return the simulated reduced trajectory too (tests, small sweeps)
+    reuse_compiled_qps: let the worker reuse one compiled QP for same-length cases (set by
+        run_tasks when a worker gets enough offsets for it to pay; results are the same)
     """
 
     index: int
@@ -154,6 +156,7 @@ class OffsetTask:
     settings: CheckSettings
     qps: str = QPS_ALL
     keep_trajectory: bool = False
+    reuse_compiled_qps: bool = False
 
 
 # -------------------------------------------------------------------------------------------- results

@@ -44,3 +44,20 @@ def test_feasible_plan_needs_no_solver_and_is_returned_exactly(example_robot, ma
     np.testing.assert_array_equal(sol.values["deviation_rad"], 0.0)
     _, fsol = fqp.force_feasibility(traj, example_robot, 0.7)  # zero planned force: feasible everywhere
     assert fsol.ok and np.all(fsol.values["shortfall_n"] == 0.0)
+
+
+def test_reusing_a_compiled_problem_gives_the_same_motion(demo_case):
+    # Reference: the same QP compiled afresh (cvxpy's plain path) for each case.
+    from legbridge.limits.qp.problem import reuse_compiled_problems
+
+    robot, _ = demo_case
+    trajs = translate_plan(demo_plan((-0.06, 0.06)), robot, rate_hz=250.0)
+    fresh = [mqp.nearest_motion(t, robot, CheckSettings(rate_hz=250.0))[1] for t in trajs]
+    reuse_compiled_problems(True)
+    try:
+        reused = [mqp.nearest_motion(t, robot, CheckSettings(rate_hz=250.0))[1] for t in trajs]
+    finally:
+        reuse_compiled_problems(False)
+    for a, b in zip(fresh, reused):
+        assert a.ok and b.ok
+        np.testing.assert_allclose(b.values["q_corrected_rad"], a.values["q_corrected_rad"], atol=1e-7)
