@@ -88,21 +88,29 @@ def index_model(model: pin.Model, leg_joints: tuple[str, ...], foot_frame: str, 
     return LegModel(model, tuple(leg_joints), q_index, v_index, bq, bv, foot_id, hip_id, lengths)
 
 
+def planar_base(name: str, body: pin.Inertia) -> tuple[pin.Model, int]:
+    """A new model with the planar base (base_x PX, base_z PZ, base_pitch RY) carrying ``body``
+    (inertia about the base origin, the body centre of mass) and a 'body' frame; returns (model, pitch joint id)."""
+    model = pin.Model()
+    model.name = name
+    ident = pin.SE3.Identity()
+    jx = model.addJoint(0, pin.JointModelPX(), ident, BASE_JOINTS[0])
+    jz = model.addJoint(jx, pin.JointModelPZ(), ident, BASE_JOINTS[1])
+    jp = model.addJoint(jz, pin.JointModelRY(), ident, BASE_JOINTS[2])
+    model.appendBodyToJoint(jp, body, ident)
+    model.addFrame(pin.Frame("body", jp, ident, pin.FrameType.BODY))
+    return model, jp
+
+
 def build_leg_model(robot: Robot) -> LegModel:
     """Pinocchio model of a robot described by segments (native TOML) or by a URDF."""
     if robot.urdf is not None:
         from .urdf_reader import build_urdf_leg_model
 
         return build_urdf_leg_model(robot)
-    model = pin.Model()
-    model.name = robot.name
     ident = pin.SE3.Identity()
-    jx = model.addJoint(0, pin.JointModelPX(), ident, BASE_JOINTS[0])
-    jz = model.addJoint(jx, pin.JointModelPZ(), ident, BASE_JOINTS[1])
-    jp = model.addJoint(jz, pin.JointModelRY(), ident, BASE_JOINTS[2])
-    model.appendBodyToJoint(jp, pin.Inertia(robot.body_mass_kg, np.zeros(3),
-                                            np.diag([robot.body_pitch_inertia_kgm2] * 2 + [1e-3 * robot.body_pitch_inertia_kgm2])), ident)
-    model.addFrame(pin.Frame("body", jp, ident, pin.FrameType.BODY))
+    i_body = robot.body_pitch_inertia_kgm2
+    model, jp = planar_base(robot.name, pin.Inertia(robot.body_mass_kg, np.zeros(3), np.diag([i_body, i_body, 1e-3 * i_body])))
     hip_placement = pin.SE3(np.eye(3), np.array([robot.hip_offset_m[0], 0.0, robot.hip_offset_m[1]]))
     model.addFrame(pin.Frame(HIP_FRAME, jp, hip_placement, pin.FrameType.OP_FRAME))
     parent, placement = jp, hip_placement

@@ -41,7 +41,7 @@ import pinocchio as pin
 from .actuator_reader import read_actuator
 from .errors import InputFileNotFound, RobotFileError
 from .fields import Table
-from .leg_model import BASE_JOINTS, FOOT_FRAME, HIP_FRAME, LegModel, index_model
+from .leg_model import FOOT_FRAME, HIP_FRAME, LegModel, index_model, planar_base
 from .robot import KNEE_BRANCHES, Joint, Robot, UrdfSource
 
 RESERVED_FRAMES = ("body", HIP_FRAME, FOOT_FRAME, "universe")
@@ -218,14 +218,8 @@ def build_planar_from_urdf(src: UrdfSource, tree: UrdfTree, toml_path: str, rang
         body_new = pin.Inertia(body.mass, np.zeros(3), body.inertia.copy())
     shift = pin.SE3(np.eye(3), -com)
 
-    model = pin.Model()
-    model.name = red.name
     ident = pin.SE3.Identity()
-    jx = model.addJoint(0, pin.JointModelPX(), ident, BASE_JOINTS[0])
-    jz = model.addJoint(jx, pin.JointModelPZ(), ident, BASE_JOINTS[1])
-    jp = model.addJoint(jz, pin.JointModelRY(), ident, BASE_JOINTS[2])
-    model.appendBodyToJoint(jp, body_new, ident)
-    model.addFrame(pin.Frame("body", jp, ident, pin.FrameType.BODY))
+    model, jp = planar_base(red.name, body_new)
     new_id = {0: jp}
     for k, (name, jid) in enumerate(zip(src.leg_joints, ids)):
         placement = red.jointPlacements[jid]
