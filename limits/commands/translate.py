@@ -39,13 +39,21 @@ def summary_lines(plan, trajs, out: Path, rate_hz: float) -> list[str]:
     lines = [f"plan {plan.path}: {len(trajs)} case(s), {n} samples at {rate_hz:g} Hz, {flagged} flagged sample(s)"]
     if plan.scaling is not None:
         lines.append(f"  {plan.scaling.describe()}")
+    from legbridge.mapping.readers.phases import stance_events
+
+    def times(a) -> str:
+        shown = ", ".join(f"{v:.3f}" for v in a[:6])
+        return (shown + (f", ... ({a.size} in all)" if a.size > 6 else "")) or "none"
+
     for t in trajs:
+        ev = stance_events(t.time_s, t.stance)
         reasons = [f"{int(((t.flags & bit) != 0).sum())} {name}" for bit, name in FLAG_NAMES.items() if ((t.flags & bit) != 0).any()]
         res = t.base_residual_summary()
         lines.append(f"  {t.case}: {t.n_samples} samples, {int((t.flags != 0).sum())} flagged"
                      + (f" ({', '.join(reasons)})" if reasons else "")
                      + f"; base residual up to {res['max_force_x_n']:.3g} N (x), {res['max_force_z_n']:.3g} N (z), "
                        f"{res['max_moment_nm']:.3g} N m (pitch)")
+        lines.append(f"    touchdowns at {times(ev.touchdown_s)} s; liftoffs at {times(ev.liftoff_s)} s")
     lines.append(f"targets written to {out}")
     return lines
 
