@@ -170,6 +170,10 @@ def run_review(plan, robot, settings: CheckSettings, out_dir, *, force: bool = F
     robot = _load_robot(robot)
     say("reading the plan")
     plan = _load_plan(plan, robot)
+    if sweep is not None and sweep != SWEEP_AUTO:  # an explicit sweep needs a policy: refuse before any work
+        from legbridge.limits.sweep import setup_from_plan
+
+        setup_from_plan(plan)
     t = lap("read_s", t)
     say(f"translating {len(plan.cases)} case(s) at {settings.rate_hz:g} Hz")
     trajs = _translate(plan, robot, settings)
