@@ -1,24 +1,30 @@
-"""Whether a plan stays within the modelled limits: checks, QPs, segments, cautions, reports, CLI.
+"""Whether a plan stays within the modelled limits: checks, QPs, verdicts, reviews, sweeps, command line.
 
 Public API (loaded on first use, so the command line starts quickly):
 
-    check_case(traj, robot, settings=None) -> CaseReview             (limits.check)
+    build_review(plan, robot, settings=None) -> Review           read, translate, check (limits.review)
+    run_review(plan, robot, settings, out_dir) -> ReviewRun      the same, every output written
+    check_case(traj, robot, settings=None) -> CaseReview         one translated case (limits.checks)
     check_plan(trajs, robot, settings=None) -> tuple[CaseReview, ...]
-    rank_cases(reviews) -> tuple[CaseRank, ...]                       worst first
-    review_to_json(reviews, plan, robot, settings) -> dict            (limits.review_json)
-    run_review(plan, robot, settings, out_dir, *, force=False) -> ReviewOutcome   (limits.review)
-    CheckSettings, CaseReview, LimitSegment, LimitTrace, QPSolution   (limits.results)
-    CAUTIONS, caution_lines()                                         (limits.cautions)
+    review_to_json(review) -> dict; render_report(review) -> str; review_lines(review) -> list[str]
+    run_sweep(plans, robots, offsets=None, ...) -> tuple[SweepResult, ...]   (limits.sweep)
+    Verdict, CaseSummary, utilisation_text                       (limits.verdict)
+    CheckSettings, CaseReview, LimitSegment, LimitTrace, QPSolution   (limits.checks.results)
+    all_limits() -> tuple[Limit, ...]                            every modelled limit (limits.checks)
+    CAUTIONS, caution_lines()                                    (limits.cautions)
 """
 
 from importlib import import_module
 
 _WHERE = {
-    "check_case": "check", "check_plan": "check", "rank_cases": "check",
-    "review_to_json": "review_json", "write_json": "review_json",
-    "run_review": "review", "run_demo_review": "review", "ReviewOutcome": "review",
-    "CheckSettings": "results", "CaseReview": "results", "LimitSegment": "results", "LimitTrace": "results",
-    "QPSolution": "results", "SCHEMA_VERSION": "results",
+    "build_review": "review", "run_review": "review", "run_demo_review": "review", "Review": "review",
+    "ReviewRun": "review", "review_to_json": "review", "render_report": "review", "review_lines": "review",
+    "write_corrected_targets": "review",
+    "check_case": "checks", "check_plan": "checks", "all_limits": "checks", "Limit": "checks",
+    "run_sweep": "sweep", "SweepResult": "sweep",
+    "Verdict": "verdict", "CaseSummary": "verdict", "utilisation_text": "verdict",
+    "CheckSettings": "checks.results", "CaseReview": "checks.results", "LimitSegment": "checks.results",
+    "LimitTrace": "checks.results", "QPSolution": "checks.results",
     "CAUTIONS": "cautions", "caution_lines": "cautions",
 }
 
@@ -29,3 +35,7 @@ def __getattr__(name):
     if name in _WHERE:
         return getattr(import_module(f"{__name__}.{_WHERE[name]}"), name)
     raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+
+
+def __dir__():
+    return sorted(set(__all__) | {"__doc__", "__name__"})

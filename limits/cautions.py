@@ -1,17 +1,28 @@
-"""Caution text shown with every check, summary and report. Never say that a plan is safe."""
+"""Caution text shown with every check, summary and report. Never say that a plan is safe.
+
+The list of what is checked is made from the limits the checks declare (limits.checks), so it always
+names exactly the limits that were evaluated.
+"""
 
 from __future__ import annotations
 
-VERDICT_WITHIN = "within the modelled limits"
-VERDICT_NEAR = "near a modelled limit"
-VERDICT_EXCEEDS = "exceeds a modelled limit"
-VERDICT_NOT_EVALUATED = "could not be evaluated"
+import textwrap
+
+
+def _checked_limits() -> str:
+    from .checks import all_limits
+
+    names: list[str] = []
+    for lim in all_limits():
+        words = lim.caution or lim.display
+        if words not in names:
+            names.append(words)
+    return ", ".join(names[:-1]) + ", and " + names[-1] if len(names) > 1 else "".join(names)
+
 
 CAUTIONS: tuple[str, ...] = (
-    "legbridge checks the modelled limits only: joint range, joint speed, peak torque, the motor "
-    "voltage envelope, drive current, winding temperature, power and regenerated energy, and ground "
-    "friction, each as described in the robot file. A result within those limits does not mean the "
-    "test is without risk.",
+    f"legbridge checks the modelled limits only: {_checked_limits()}, each as described in the robot file. "
+    "A result within those limits does not mean the test is without risk.",
     "Not covered: impacts and their force peaks, backlash and gearbox wear, cable, connector and "
     "sensor limits, structural loads, controller tracking error, communication delays, battery state, "
     "and anything the robot file gets wrong.",
@@ -22,9 +33,10 @@ CAUTIONS: tuple[str, ...] = (
 
 def caution_lines(width: int = 100) -> list[str]:
     """The caution text wrapped for a terminal, each paragraph prefixed 'CAUTION:' once."""
-    import textwrap
-
     out: list[str] = []
     for para in CAUTIONS:
         out.extend(textwrap.wrap("CAUTION: " + para, width=width, subsequent_indent="         "))
     return out
+
+
+__all__ = ["CAUTIONS", "caution_lines"]

@@ -1,6 +1,6 @@
 """What the plan means: plan files -> reduced trajectories -> joint trajectories; target export.
 
-Public API (SI units, conventions in DESIGN.md):
+Public API (SI units; conventions in the README, "Units and conventions"):
 
     read_plan(path, *, robot=None) -> Plan                                  (mapping.readers)
     write_plan(plan, path, *, force=False) -> Path                          (mapping.plan_writer)

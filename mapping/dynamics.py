@@ -1,7 +1,7 @@
 """Inverse dynamics of the leg on its planar floating base (pin.rnea), one call per sample.
 
 The ground force acts at the foot point. Pinocchio's ``rnea(model, data, q, v, a, fext)`` takes each
-external force in the *local frame of the joint it acts on* (DESIGN.md pitfalls), so the world force
+external force in the *local frame of the joint it acts on* (a known pitfall of pin.rnea), so the world force
 F at the foot is moved to the foot's parent joint: f_local = R^T F (R: the joint's world rotation)
 and the moment about the joint origin m_local = p_local x f_local, with p_local the foot point in
 that joint's frame (the foot frame's constant placement). rnea returns
@@ -12,7 +12,7 @@ so the leg torques change by exactly -J^T F (J: leg columns, x and z rows, LOCAL
 ``tau_free = tau + J^T F`` is the torque with the ground force removed, without a second rnea.
 The base entries (x force [N], z force [N], pitch moment [N m]) of tau_rnea are the wrench the base
 would need on top of what the leg gives: zero when the plan's body motion matches the model.
-Segment inertia and gravity are included; gravity is the model's (0, 0, -9.81 m/s^2).
+Segment inertia and gravity are included; gravity is the model's, (0, 0, -g) with g = robots.robot.STANDARD_GRAVITY_M_S2.
 """
 
 from __future__ import annotations

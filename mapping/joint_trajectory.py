@@ -2,7 +2,7 @@
 
 Shapes: (n,) per sample, (n, j) per sample and leg joint (joint order = JointTrajectory.joint_names),
 (n, 2) for planar vectors (x, z) and (n, 2, j) for the foot Jacobian. SI units; arrays read-only.
-Sign conventions as in DESIGN.md (joint torque: applied by the actuator to the child segment, +y).
+Sign conventions as in the README, "Units and conventions" (joint torque: applied by the actuator to the child segment, +y).
 """
 
 from __future__ import annotations

@@ -1,6 +1,6 @@
 """Planar kinematics of a serial pitch chain and of the spring-mass leg vector, vectorised over samples.
 
-Conventions (DESIGN.md): x forward, z up; joint angles zero with every segment hanging straight down,
+Conventions (README, "Units and conventions"): x forward, z up; joint angles zero with every segment hanging straight down,
 positive about +y (the foot swings backward, -x). Segment k's world pitch is phi_k = q_1 + ... + q_k
 (base pitch 0), and the foot relative to the hip is
 

@@ -1,6 +1,6 @@
 """Reduced-order plans: what the leg should do, per disturbance case, in SI units.
 
-Conventions (DESIGN.md): x forward, z up; leg angle from the downward vertical, positive with the
+Conventions (README, "Units and conventions"): x forward, z up; leg angle from the downward vertical, positive with the
 foot ahead of the hip; leg length hip joint centre to foot contact; ground force = force of the
 ground on the foot, world frame. Arrays are shaped (n_samples,) and read-only.
 """

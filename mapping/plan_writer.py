@@ -25,7 +25,7 @@ from pathlib import Path
 
 import numpy as np
 
-from legbridge.mapping.errors import PlanFormatError
+from legbridge.robots.errors import PlanFormatError
 from legbridge.mapping.plan import Plan
 from legbridge.mapping.readers.json_reader import FORMAT_TAG
 from legbridge.mapping.readers.raw import POLICY_COLUMNS, READER_METADATA_KEYS

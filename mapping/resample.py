@@ -36,13 +36,10 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.interpolate import CubicSpline, PchipInterpolator
 
-from legbridge.robots.errors import LegbridgeError
+from legbridge.robots.errors import LegbridgeError, ResampleError
 
 from .plan import ReducedTrajectory, frozen_array
 
-
-class ResampleError(LegbridgeError, ValueError):
-    """A case cannot be resampled (too few samples, time not increasing, bad rate)."""
 
 
 @dataclass(frozen=True, eq=False)

@@ -25,9 +25,10 @@ from pathlib import Path
 
 import numpy as np
 
-from legbridge.robots.errors import LegbridgeError
-from legbridge.robots.files import refuse_existing, write_atomic
+from legbridge.robots.errors import LegbridgeError, TargetsExportError
+from legbridge.robots.files import check_outputs, write_atomic
 from legbridge.robots.robot import Robot
+from legbridge.robots.version import provenance as version_provenance
 from legbridge.robots.version import tool_version
 
 from .joint_trajectory import FLAG_NAMES, JointTrajectory
@@ -43,9 +44,6 @@ JOINT_COLUMNS = (
     ("current_a", "current_a", "A (DC-equivalent)"),
 )
 
-
-class TargetsExportError(LegbridgeError, ValueError):
-    """Targets cannot be written as asked (unknown extension, rate mismatch, missing folder)."""
 
 
 def column_names(joint_names) -> list[str]:
@@ -71,14 +69,16 @@ def _numeric_block(traj: JointTrajectory) -> np.ndarray:
     return np.hstack(parts)
 
 
-def build_metadata(trajs, *, plan: Plan, robot: Robot, rate_hz: float) -> dict:
-    """The metadata dictionary written with the targets."""
+def build_metadata(trajs, *, plan: Plan, robot: Robot, rate_hz: float, provenance: dict | None = None) -> dict:
+    """The metadata dictionary written with the targets (provenance: legbridge.robots.version.provenance()
+    unless given)."""
     units = {"time_s": "s", "flags": "bit flags (legbridge.mapping.joint_trajectory.FLAG_*)"}
     for j in robot.joint_names:
         units.update({f"{j}_{suffix}": unit for suffix, _, unit in JOINT_COLUMNS})
     meta = {
         "content": "legbridge joint targets",
         "tool_version": tool_version(),
+        "provenance": dict(provenance) if provenance is not None else version_provenance(),
         "plan": {"path": str(plan.path), "sha256": plan.sha256},
         "robot": {"name": robot.name, "path": robot.source, "sha256": robot.sha256},
         "rate_hz": float(rate_hz),
@@ -147,21 +147,13 @@ def _json_doc(trajs, meta: dict) -> dict:
     return {"metadata": meta, "cases": cases}
 
 
-def write_targets(trajs, path, *, plan: Plan, robot: Robot, rate_hz: float, force: bool = False) -> Path:
-    """Write the joint targets of ``trajs`` (JointTrajectory, one per case) to ``path``; returns the path.
-
-    The format follows the extension (.csv, .npz, .json). Raises OutputExistsError when the file
-    exists and ``force`` is False, TargetsExportError for an unknown extension, a missing folder or
-    a trajectory whose rate is not ``rate_hz`` [Hz].
-    """
-    p = Path(path)
+def targets_bytes(trajs, name: str, *, plan: Plan, robot: Robot, rate_hz: float, provenance: dict | None = None) -> bytes:
+    """The content of a targets file called ``name`` (its extension picks .csv, .npz or .json)."""
+    ext = Path(name).suffix.lower()
     trajs = tuple(trajs)
-    ext = p.suffix.lower()
     if ext not in FORMATS:
-        raise TargetsExportError("unknown targets format", path=str(p), expected=f"an extension in {list(FORMATS)}", found=p.suffix)
-    if not p.parent.is_dir():
-        raise TargetsExportError("output folder does not exist", path=str(p.parent))
-    refuse_existing(p, force)
+        raise TargetsExportError("unknown targets format", path=str(name), expected=f"an extension in {list(FORMATS)}",
+                                 found=Path(name).suffix)
     for t in trajs:
         if not np.isclose(t.rate_hz, rate_hz, rtol=1e-12, atol=0.0):
             raise TargetsExportError(f"case '{t.case}' was translated at another rate", key="rate_hz",
@@ -169,17 +161,30 @@ def write_targets(trajs, path, *, plan: Plan, robot: Robot, rate_hz: float, forc
         if tuple(t.joint_names) != tuple(robot.joint_names):
             raise TargetsExportError(f"case '{t.case}' has other joints than robot '{robot.name}'", key="joint_names",
                                      expected=list(robot.joint_names), found=list(t.joint_names))
-    meta = build_metadata(trajs, plan=plan, robot=robot, rate_hz=rate_hz)
+    meta = build_metadata(trajs, plan=plan, robot=robot, rate_hz=rate_hz, provenance=provenance)
     if ext == ".csv":
-        text = _csv_text(trajs, meta).encode("utf-8")
-        write_atomic(p, text, force=force)
-    elif ext == ".npz":
-        arrays = _npz_arrays(trajs, meta)
-        write_atomic(p, lambda fh: np.savez_compressed(fh, **arrays), force=force)
-    else:
-        text = json.dumps(_json_doc(trajs, meta), allow_nan=False).encode("utf-8")
-        write_atomic(p, text, force=force)
-    return p
+        return _csv_text(trajs, meta).encode("utf-8")
+    if ext == ".npz":
+        buf = io.BytesIO()
+        np.savez_compressed(buf, **_npz_arrays(trajs, meta))
+        return buf.getvalue()
+    return json.dumps(_json_doc(trajs, meta), allow_nan=False).encode("utf-8")
+
+
+def write_targets(trajs, path, *, plan: Plan, robot: Robot, rate_hz: float, force: bool = False) -> Path:
+    """Write the joint targets of ``trajs`` (JointTrajectory, one per case) to ``path``; returns the path.
+
+    The format follows the extension (.csv, .npz, .json). Raises OutputExistsError when the file
+    exists and ``force`` is False or when ``path`` is the plan or robot file, OutputFolderError for
+    a missing folder, TargetsExportError for an unknown extension or a trajectory whose rate is not
+    ``rate_hz`` [Hz].
+    """
+    p = Path(path)
+    if p.suffix.lower() not in FORMATS:
+        raise TargetsExportError("unknown targets format", path=str(p), expected=f"an extension in {list(FORMATS)}",
+                                 found=p.suffix)
+    check_outputs([p], inputs=[getattr(plan, "path", None), getattr(robot, "source", None) or None], force=force)
+    return write_atomic(p, targets_bytes(trajs, p.name, plan=plan, robot=robot, rate_hz=rate_hz), force=force)
 
 
 def read_targets_metadata(path) -> dict:

@@ -205,11 +205,13 @@ def translate(case: ReducedTrajectory, robot: Robot, *, rate_hz: float = 1000.0,
 
 
 def translate_plan(plan: Plan, robot: Robot, *, rate_hz: float = 1000.0,
-                   cases: tuple[str, ...] | list[str] | None = None) -> tuple[JointTrajectory, ...]:
-    """translate() every case of a plan (or the named ``cases``, in that order); one LegModel per plan.
+                   cases: tuple[str, ...] | list[str] | None = None,
+                   leg_model: LegModel | None = None) -> tuple[JointTrajectory, ...]:
+    """translate() every case of a plan (or the named ``cases``, in that order); one LegModel per plan
+    (``leg_model`` when given, e.g. a worker's cached one).
 
     An unknown case name raises LegbridgeError listing the plan's cases.
     """
     chosen = plan.cases if cases is None else tuple(plan.case(c) for c in cases)
-    leg = build_leg_model(robot)
+    leg = leg_model if leg_model is not None else build_leg_model(robot)
     return tuple(translate(c, robot, rate_hz=rate_hz, leg_model=leg) for c in chosen)

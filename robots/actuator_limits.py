@@ -97,6 +97,24 @@ def joint_torque_bounds_nm(act: Actuator, joint_speed_rad_s, joint_accel_rad_s2=
     return lo, hi
 
 
+def joint_torque_limits_nm(joint: Joint, joint_speed_rad_s, joint_accel_rad_s2=0.0, *, voltage=True):
+    """The joint's torque interval [N m]: joint_torque_bounds_nm of its actuator, tightened by the
+    joint's effort limit when it has one. The one place where the effort limit meets the actuator
+    bounds (checks, QPs and plots all call it).
+
+    Returns (lo, hi, source): source names what bounds the torque ('drive peak current', plus 'and the
+    voltage envelope' with voltage=True, plus 'and joint effort limit' where that is tighter somewhere).
+    """
+    lo, hi = joint_torque_bounds_nm(joint.actuator, joint_speed_rad_s, joint_accel_rad_s2, voltage=voltage)
+    source = "drive peak current" + (" and voltage envelope" if voltage else "")
+    e = joint.effort_limit_nm
+    if e is not None:
+        if np.any(hi > e) or np.any(lo < -e):
+            source += " and joint effort limit"
+        lo, hi = np.maximum(lo, -e), np.minimum(hi, e)
+    return lo, hi, source
+
+
 def peak_joint_torque_nm(act: Actuator) -> float:
     """Static joint torque at the drive's peak current, motoring [N m]."""
     return act.gearbox_efficiency * act.gear_ratio * act.torque_constant_nm_per_a * act.peak_current_a

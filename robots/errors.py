@@ -68,3 +68,49 @@ class InputFileNotFound(LegbridgeError, FileNotFoundError):
 
 class OutputExistsError(LegbridgeError, FileExistsError):
     """An output file exists and overwriting it was not asked for (``--force``)."""
+
+
+class OutputFolderError(LegbridgeError, NotADirectoryError):
+    """An output folder is missing, or the output path is a file where a folder is needed."""
+
+
+class UsageError(LegbridgeError, ValueError):
+    """A command or function was given an impossible combination or value of options."""
+
+
+class PlanFormatError(LegbridgeError, ValueError):
+    """A plan file (or a plan about to be written) is malformed, inconsistent or not evaluable.
+
+    CSV rows are the line numbers a spreadsheet shows (header = row 1 when there are no comment lines)."""
+
+
+class PlanScalingError(PlanFormatError):
+    """A nondimensional plan cannot be scaled to SI: the nominal leg length or mass is not given."""
+
+
+class ResampleError(LegbridgeError, ValueError):
+    """A plan case cannot be resampled at the requested rate."""
+
+
+class TargetsExportError(LegbridgeError, ValueError):
+    """Joint targets cannot be written as asked (format, rate, inconsistent cases)."""
+
+
+class SlipInputError(LegbridgeError, ValueError):
+    """A spring-mass parameter, policy, initial state or simulation setting is invalid."""
+
+
+class CheckSettingsError(LegbridgeError, ValueError):
+    """A check setting is out of its allowed range."""
+
+
+class SweepInputError(LegbridgeError, ValueError):
+    """A sweep cannot be set up from the inputs given (plan without policy, bad offsets...)."""
+
+
+class SchedulerError(LegbridgeError, ConnectionError):
+    """The Dask scheduler could not be reached or is not usable."""
+
+
+class CorrectedTargetsError(LegbridgeError, ValueError):
+    """The modified targets cannot be written (no QP result, a failed QP, an unmarked file name)."""

@@ -1,6 +1,6 @@
 """Writing output files atomically (every layer writes through this one function).
 
-DESIGN: outputs are written atomically and inputs are never touched. A file is written to a
+Outputs are written atomically and inputs are never touched. A file is written to a
 temporary file in the target's folder, flushed to disk, given the ordinary permissions (0666 less
 the process umask, like a file opened for writing), and moved into place with ``os.replace``, so a
 reader sees the old file or the whole new one, never a part. An existing file is replaced only with
@@ -15,7 +15,7 @@ from collections.abc import Callable
 from pathlib import Path
 from typing import BinaryIO
 
-from .errors import LegbridgeError, OutputExistsError
+from .errors import LegbridgeError, OutputExistsError, OutputFolderError
 
 
 def _umask() -> int:
@@ -24,13 +24,66 @@ def _umask() -> int:
     return mask
 
 
+FORCE_HINT = "pass --force (force=True) to replace it"
+
+
 def refuse_existing(path: str | Path, force: bool) -> Path:
     """Raise OutputExistsError when ``path`` exists and ``force`` is false; return it as a Path."""
     p = Path(path)
     if p.exists() and not force:
         raise OutputExistsError("output file exists", path=str(p), expected="a new file name", found="an existing file",
-                                hint="pass --force (force=True) to overwrite it")
+                                hint=FORCE_HINT)
     return p
+
+
+def _same_file(a: Path, b: Path) -> bool:
+    try:
+        return a.resolve() == b.resolve() or (a.exists() and b.exists() and os.path.samefile(a, b))
+    except OSError:
+        return False
+
+
+def check_outputs(outputs, *, inputs=(), force: bool = False) -> tuple[Path, ...]:
+    """Refuse, before any work, output files that would fail or do harm: two outputs that are the
+    same file, an output that is an input (whatever ``force`` says), an existing output without
+    ``force`` (OutputExistsError), a missing folder (OutputFolderError). None entries are skipped."""
+    outs = [Path(o) for o in outputs if o is not None]
+    ins = [Path(i) for i in inputs if i is not None]
+    for k, o in enumerate(outs):
+        for other in outs[:k]:
+            if _same_file(o, other):
+                raise OutputExistsError("two outputs name the same file", path=str(o), expected="distinct output files",
+                                        found=f"{other} and {o}")
+        for i in ins:
+            if _same_file(o, i):
+                raise OutputExistsError("refusing to overwrite an input file", path=str(o),
+                                        hint="choose another output name (--force never applies to inputs)")
+        if o.is_dir():
+            raise OutputFolderError("output path is a folder", path=str(o), expected="a file name", found="a folder")
+        refuse_existing(o, force)
+        folder = o.parent if str(o.parent) else Path(".")
+        if not folder.is_dir():
+            raise OutputFolderError("output folder does not exist", path=str(folder), hint="create it first")
+    return tuple(outs)
+
+
+def check_output_folder(out_dir: str | Path, names, *, inputs=(), force: bool = False) -> Path:
+    """Refuse an output folder that is a file, that holds any of ``names`` (unless ``force``), or where
+    one of ``names`` would replace an input file (whatever ``force`` says). The folder may not exist yet."""
+    out = Path(out_dir)
+    if out.exists() and not out.is_dir():
+        raise OutputFolderError(path=str(out), expected="a folder for the outputs", found="a file")
+    for n in names:
+        for i in inputs:
+            if i is not None and _same_file(out / n, Path(i)):
+                raise OutputExistsError("refusing to overwrite an input file", path=str(out / n),
+                                        hint="choose another output folder (--force never applies to inputs)")
+    if out.is_dir() and not force:
+        present = [n for n in names if (out / n).exists()]
+        if present:
+            raise OutputExistsError("previous outputs in the folder", path=str(out), expected="a folder without them",
+                                    found=", ".join(present), hint=FORCE_HINT)
+    return out
 
 
 def write_atomic(path: str | Path, data: bytes | str | Callable[[BinaryIO], None], *, force: bool = False) -> Path:
@@ -42,9 +95,9 @@ def write_atomic(path: str | Path, data: bytes | str | Callable[[BinaryIO], None
     p = refuse_existing(path, force)
     folder = p.parent if str(p.parent) else Path(".")
     if not folder.is_dir():
-        raise LegbridgeError("output folder does not exist", path=str(folder), hint="create it first")
+        raise OutputFolderError("output folder does not exist", path=str(folder), hint="create it first")
     if p.is_dir():
-        raise LegbridgeError("output path is a folder", path=str(p), expected="a file name", found="a folder")
+        raise OutputFolderError("output path is a folder", path=str(p), expected="a file name", found="a folder")
     try:
         fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".tmp", dir=folder)
     except OSError as exc:
@@ -68,3 +121,41 @@ def write_atomic(path: str | Path, data: bytes | str | Callable[[BinaryIO], None
             raise LegbridgeError(f"could not write the file ({exc.strerror or exc})", path=str(p)) from exc
         raise
     return p
+
+
+def json_ready(obj):
+    """Python / NumPy values -> JSON values: arrays to lists, NumPy scalars to Python, enums to their
+    value, and every number that is not finite to None (JSON has no NaN or infinity)."""
+    import enum
+    import math
+
+    import numpy as np
+
+    if isinstance(obj, dict):
+        return {str(k.value if isinstance(k, enum.Enum) else k): json_ready(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [json_ready(v) for v in obj]
+    if isinstance(obj, np.ndarray):
+        return json_ready(obj.tolist())
+    if isinstance(obj, enum.Enum):
+        return json_ready(obj.value)
+    if isinstance(obj, (bool, np.bool_)):
+        return bool(obj)
+    if isinstance(obj, (int, np.integer)):
+        return int(obj)
+    if isinstance(obj, (float, np.floating)):
+        x = float(obj)
+        return x if math.isfinite(x) else None
+    return obj
+
+
+def json_text(doc) -> str:
+    """``doc`` as indented JSON text with a final newline (non-finite numbers already None)."""
+    import json
+
+    return json.dumps(json_ready(doc), indent=2, allow_nan=False) + "\n"
+
+
+def write_json(doc, path: str | Path, *, force: bool = False) -> Path:
+    """Write ``doc`` as JSON atomically (write_atomic); OutputExistsError when it exists without ``force``."""
+    return write_atomic(path, json_text(doc), force=force)

@@ -15,7 +15,7 @@ import numpy as np
 import pinocchio as pin
 
 from .errors import RobotFileError
-from .robot import Robot
+from .robot import STANDARD_GRAVITY_M_S2, Robot
 
 BASE_JOINTS = ("base_x", "base_z", "base_pitch")
 FOOT_FRAME = "foot"
@@ -93,6 +93,7 @@ def planar_base(name: str, body: pin.Inertia) -> tuple[pin.Model, int]:
     (inertia about the base origin, the body centre of mass) and a 'body' frame; returns (model, pitch joint id)."""
     model = pin.Model()
     model.name = name
+    model.gravity = pin.Motion(np.array([0.0, 0.0, -STANDARD_GRAVITY_M_S2]), np.zeros(3))
     ident = pin.SE3.Identity()
     jx = model.addJoint(0, pin.JointModelPX(), ident, BASE_JOINTS[0])
     jz = model.addJoint(jx, pin.JointModelPZ(), ident, BASE_JOINTS[1])

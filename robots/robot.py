@@ -1,6 +1,6 @@
 """The validated description of a leg: segments, joints, actuators, springs, ground.
 
-Units are SI throughout (see DESIGN conventions): metres, kilograms, seconds, radians, newton
+Units are SI throughout (see the README, "Units and conventions"): metres, kilograms, seconds, radians, newton
 metres, amperes, volts, ohms, kelvin per watt, degrees Celsius for temperatures.
 
 Motor constants are stored in one internal convention, the *DC-equivalent motor*:
@@ -19,6 +19,10 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 KNEE_BRANCHES = ("backward", "forward")
+
+# Standard acceleration of gravity [m/s^2] (the conventional value adopted by the 3rd CGPM, 1901): the
+# one value of g in legbridge (Pinocchio model, scaling of nondimensional plans, reports).
+STANDARD_GRAVITY_M_S2 = 9.80665
 
 
 @dataclass(frozen=True)

@@ -241,7 +241,7 @@ def build_planar_from_urdf(src: UrdfSource, tree: UrdfTree, toml_path: str, rang
     model.addFrame(pin.Frame(FOOT_FRAME, new_id[ids[-1]], foot_pl, pin.FrameType.OP_FRAME))
     leg = index_model(model, tuple(src.leg_joints), FOOT_FRAME, HIP_FRAME)
 
-    # zero pose: DESIGN's convention is every segment hanging straight down; say so if the URDF differs
+    # zero pose: the project's convention is every segment hanging straight down; say so if the URDF differs
     d = model.createData()
     pin.framesForwardKinematics(model, d, pin.neutral(model))
     pts = np.array([d.oMi[model.getJointId(n)].translation for n in src.leg_joints] + [d.oMf[leg.foot_frame_id].translation])

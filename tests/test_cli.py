@@ -21,7 +21,7 @@ def test_no_command_and_unknown_options_exit_2(capsys):
 
 
 def test_an_internal_error_fails_closed_with_exit_3(monkeypatch, capsys):
-    import legbridge.limits.commands.robot as robot_cmd
+    import legbridge.limits.cli.robot as robot_cmd
 
     def broken(args):
         raise ZeroDivisionError("a bug")

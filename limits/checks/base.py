@@ -1,18 +1,31 @@
-"""What every limit module shares: the evaluation context and small vectorised helpers.
+"""What every limit module shares: the Limit declaration, the evaluation context and small
+vectorised helpers.
 
-A limit module holds ``LIMITS`` (the limit names it produces) and ``evaluate(ctx) ->
-tuple[LimitTrace, ...]``; limits.checks.CHECKS lists the modules and the checker just stacks their
-traces. Every trace is shape (n_samples,), SI units, read-only.
+A limit module declares ``LIMITS``, a tuple of :class:`Limit`: name, display name, unit, scope, the
+report panel it is drawn in, its place in every listing, and ``evaluate(ctx) -> tuple[LimitTrace,
+...]``. legbridge.limits.checks finds the modules by themselves; nothing else lists limit names.
+Every trace is shape (n_samples,), SI units, read-only.
 """
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
 
-from legbridge.limits.results import CheckSettings, LimitTrace, ThermalResult
+from legbridge.limits.checks.results import CheckSettings, LimitTrace, ThermalResult
 from legbridge.robots.robot import Robot
+
+# Limit.scope: what one trace of the limit covers
+SCOPE_JOINT = "joint"   # one trace per joint
+SCOPE_LEG = "leg"       # one trace for the foot / leg (ground force)
+SCOPE_ROBOT = "robot"   # one trace for the whole robot (supply power, regenerated energy)
+SCOPES = (SCOPE_JOINT, SCOPE_LEG, SCOPE_ROBOT)
+
+# Limit.panel: where the report draws the limit's flagged spans (None: tables only)
+PANEL_ANGLE, PANEL_SPEED, PANEL_TORQUE, PANEL_GROUND = "angle", "speed", "torque", "ground"
+PANELS = (PANEL_ANGLE, PANEL_SPEED, PANEL_TORQUE, PANEL_GROUND, None)
 
 
 @dataclass(frozen=True, eq=False)
@@ -37,6 +50,31 @@ class CheckContext:
     def joints(self):
         """(column index, Joint) for each trajectory joint, matched by name."""
         return [(i, self.robot.joint(name)) for i, name in enumerate(self.traj.joint_names)]
+
+
+@dataclass(frozen=True, eq=False)
+class Limit:
+    """One modelled limit, declared by the module that evaluates it.
+
+    name: the code written to files ('peak_torque'); display: what people read ('peak torque')
+    unit: unit of the value and the allowed value; scope: SCOPE_JOINT, SCOPE_LEG or SCOPE_ROBOT
+    panel: report panel of its flagged spans (PANEL_*), None for tables only
+    order: position in every listing (smaller first); caution: how the caution text names it
+    evaluate(ctx) -> tuple of LimitTrace (empty when the limit is not asked for, e.g. no supply cap)
+    """
+
+    name: str
+    display: str
+    unit: str
+    scope: str
+    panel: str | None
+    order: int
+    evaluate: Callable
+    caution: str = ""
+
+    def __post_init__(self):
+        if self.scope not in SCOPES or self.panel not in PANELS:
+            raise ValueError(f"limit {self.name!r}: scope {self.scope!r} / panel {self.panel!r} not in {SCOPES} / {PANELS}")
 
 
 def frozen(a) -> np.ndarray:

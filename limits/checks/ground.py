@@ -11,9 +11,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from .base import CheckContext, ratio, trace
+from .base import PANEL_GROUND, SCOPE_LEG, CheckContext, Limit, ratio, trace
 
-LIMITS = ("unilateral_force", "friction_cone")
 
 
 def evaluate(ctx: CheckContext):
@@ -35,3 +34,20 @@ def evaluate(ctx: CheckContext):
         trace("unilateral_force", "", "N", fz, 0.0, uni, source="contact cannot pull"),
         trace("friction_cone", "", "N", np.abs(fx), cone_allowed, cone, source=f"friction coefficient {mu:g}"),
     )
+
+
+def _unilateral(ctx: CheckContext):
+    """The unilateral-contact trace only."""
+    return evaluate(ctx)[:1]
+
+
+def _friction(ctx: CheckContext):
+    """The friction-cone trace only."""
+    return evaluate(ctx)[1:]
+
+
+LIMITS = (
+    Limit("unilateral_force", "unilateral force", "N", SCOPE_LEG, PANEL_GROUND, 90, _unilateral,
+          caution="unilateral contact"),
+    Limit("friction_cone", "friction cone", "N", SCOPE_LEG, PANEL_GROUND, 100, _friction, caution="ground friction"),
+)

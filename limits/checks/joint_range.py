@@ -9,9 +9,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from .base import CheckContext, trace
+from .base import CheckContext, Limit, PANEL_ANGLE, SCOPE_JOINT, trace
 
-LIMITS = ("joint_range",)
 
 
 def evaluate(ctx: CheckContext):
@@ -27,3 +26,6 @@ def evaluate(ctx: CheckContext):
         near = None if ctx.settings.range_margin_rad is None else 1.0 - ctx.settings.range_margin_rad / half
         out.append(trace("joint_range", joint.name, "rad", q, allowed, util, near_from=near, source="hard stops"))
     return tuple(out)
+
+
+LIMITS = (Limit("joint_range", "joint range", "rad", SCOPE_JOINT, PANEL_ANGLE, 10, evaluate, caution="joint range"),)

@@ -7,9 +7,8 @@ import numpy as np
 
 from legbridge.robots.actuator_limits import max_joint_speed
 
-from .base import CheckContext, ratio, trace
+from .base import CheckContext, Limit, PANEL_SPEED, SCOPE_JOINT, ratio, trace
 
-LIMITS = ("joint_speed",)
 
 
 def evaluate(ctx: CheckContext):
@@ -20,3 +19,6 @@ def evaluate(ctx: CheckContext):
         v = np.abs(ctx.traj.qd[:, i])
         out.append(trace("joint_speed", joint.name, "rad/s", v, bound.value, ratio(v, bound.value), source=bound.source))
     return tuple(out)
+
+
+LIMITS = (Limit("joint_speed", "joint speed", "rad/s", SCOPE_JOINT, PANEL_SPEED, 20, evaluate, caution="joint speed"),)

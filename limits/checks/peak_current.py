@@ -5,9 +5,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from .base import CheckContext, ratio, trace
+from .base import CheckContext, Limit, PANEL_TORQUE, SCOPE_JOINT, ratio, trace
 
-LIMITS = ("peak_current",)
 
 
 def evaluate(ctx: CheckContext):
@@ -18,3 +17,6 @@ def evaluate(ctx: CheckContext):
         ipk = joint.actuator.peak_current_a
         out.append(trace("peak_current", joint.name, "A", cur, ipk, ratio(np.abs(cur), ipk), source="drive peak current"))
     return tuple(out)
+
+
+LIMITS = (Limit("peak_current", "peak current", "A", SCOPE_JOINT, PANEL_TORQUE, 50, evaluate, caution="drive current"),)

@@ -7,10 +7,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from .base import CheckContext, ratio, trace
+from .base import CheckContext, Limit, SCOPE_ROBOT, ratio, trace
 from .supply_power import total_power_w
 
-LIMITS = ("regen_energy",)
 
 
 def step_index(stance) -> np.ndarray:
@@ -44,3 +43,6 @@ def evaluate(ctx: CheckContext):
         return ()
     run, _ = running_regen_j(ctx.traj)
     return (trace("regen_energy", "", "J", run, cap, ratio(run, cap), source="settings.regen_energy_j"),)
+
+
+LIMITS = (Limit("regen_energy", "regenerated energy", "J", SCOPE_ROBOT, None, 80, evaluate, caution="regenerated energy"),)

@@ -5,9 +5,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from .base import CheckContext, ratio, trace
+from .base import CheckContext, Limit, SCOPE_ROBOT, ratio, trace
 
-LIMITS = ("supply_power",)
 
 
 def total_power_w(traj) -> np.ndarray:
@@ -22,3 +21,6 @@ def evaluate(ctx: CheckContext):
         return ()
     p = total_power_w(ctx.traj)
     return (trace("supply_power", "", "W", p, cap, ratio(p, cap), source="settings.supply_power_w"),)
+
+
+LIMITS = (Limit("supply_power", "supply power", "W", SCOPE_ROBOT, None, 70, evaluate, caution="supply power"),)

@@ -7,9 +7,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from .base import CheckContext, ratio, trace
+from .base import CheckContext, Limit, PANEL_TORQUE, SCOPE_JOINT, ratio, trace
 
-LIMITS = ("voltage",)
 
 
 def evaluate(ctx: CheckContext):
@@ -21,3 +20,6 @@ def evaluate(ctx: CheckContext):
         out.append(trace("voltage", joint.name, "V", v, act.max_voltage_v, ratio(np.abs(v), act.max_voltage_v),
                          source="drive voltage (bus x modulation)"))
     return tuple(out)
+
+
+LIMITS = (Limit("voltage", "voltage", "V", SCOPE_JOINT, PANEL_TORQUE, 40, evaluate, caution="the motor voltage envelope"),)

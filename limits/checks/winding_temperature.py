@@ -5,9 +5,8 @@ against the allowed rise (max winding temperature - ambient). value and allowed:
 from __future__ import annotations
 
 
-from .base import CheckContext, ratio, trace
+from .base import CheckContext, Limit, PANEL_TORQUE, SCOPE_JOINT, ratio, trace
 
-LIMITS = ("winding_temperature",)
 
 
 def evaluate(ctx: CheckContext):
@@ -21,3 +20,6 @@ def evaluate(ctx: CheckContext):
         out.append(trace("winding_temperature", joint.name, "K", rise, allowed, ratio(rise, allowed),
                          source=f"winding thermal model over {th.duration_s:g} s"))
     return tuple(out)
+
+
+LIMITS = (Limit("winding_temperature", "winding temperature", "K", SCOPE_JOINT, PANEL_TORQUE, 60, evaluate, caution="winding temperature"),)

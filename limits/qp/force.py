@@ -7,8 +7,8 @@ leg can produce:
     subject to lo_k,i - s_k,i <= tau_free_k,i - (J_k^T F_k)_i <= hi_k,i + s_k,i     (each joint i)
                |Fx_k| <= mu Fz_k,  Fz_k >= 0,  s_k,i >= 0
 
-[lo, hi]: robots.actuator_limits.joint_torque_bounds_nm(act, qd, qdd) with the voltage envelope
-(voltage=True), tightened by the joint's effort limit. The slack s [N m] keeps the stacked problem
+[lo, hi]: robots.actuator_limits.joint_torque_limits_nm(joint, qd, qdd) with the voltage envelope
+(voltage=True) and the joint's effort limit. The slack s [N m] keeps the stacked problem
 feasible when one sample is infeasible by itself (e.g. the speed is beyond the torque-speed
 envelope, lo > hi, or tau_free alone is out of bounds): with the weight w well above the torque
 constraints' multipliers the L1 penalty is exact, so s = 0 wherever a feasible force exists, and a
@@ -27,7 +27,7 @@ from __future__ import annotations
 import numpy as np
 import scipy.sparse as sp
 
-from legbridge.robots.actuator_limits import joint_torque_bounds_nm
+from legbridge.robots.actuator_limits import joint_torque_limits_nm
 
 from .problem import QPProblem, solve
 
@@ -40,10 +40,7 @@ def torque_bounds(traj, robot) -> tuple[np.ndarray, np.ndarray]:
     hi = np.empty(traj.q.shape)
     for i, name in enumerate(traj.joint_names):
         joint = robot.joint(name)
-        l, h = joint_torque_bounds_nm(joint.actuator, traj.qd[:, i], traj.qdd[:, i], voltage=True)
-        if joint.effort_limit_nm is not None:
-            l, h = np.maximum(l, -joint.effort_limit_nm), np.minimum(h, joint.effort_limit_nm)
-        lo[:, i], hi[:, i] = l, h
+        lo[:, i], hi[:, i], _ = joint_torque_limits_nm(joint, traj.qd[:, i], traj.qdd[:, i], voltage=True)
     return lo, hi
 
 

@@ -22,7 +22,7 @@ from dataclasses import dataclass
 import numpy as np
 import scipy.sparse as sp
 
-from legbridge.limits.results import QPSolution
+from legbridge.limits.checks.results import QPSolution
 
 OK_STATUSES = ("optimal",)
 

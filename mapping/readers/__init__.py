@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from legbridge.mapping.errors import PlanFormatError, PlanScalingError
+from legbridge.robots.errors import PlanFormatError, PlanScalingError
 from legbridge.mapping.plan import Plan
 
 from .phases import DEFAULT_THRESHOLD_FRACTION, PhaseEvents, detect_phases, events, stance_events

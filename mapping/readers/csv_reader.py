@@ -30,7 +30,7 @@ import re
 
 import numpy as np
 
-from legbridge.mapping.errors import PlanFormatError
+from legbridge.robots.errors import PlanFormatError
 
 from . import scaling, validation
 from .json_reader import FORMAT_TAG

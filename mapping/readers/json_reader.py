@@ -27,7 +27,7 @@ from __future__ import annotations
 
 import json
 
-from legbridge.mapping.errors import PlanFormatError
+from legbridge.robots.errors import PlanFormatError
 
 from . import scaling, validation
 from .raw import RawCase, RawPlan, as_float_array, read_file_bytes

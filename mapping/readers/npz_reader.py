@@ -26,7 +26,7 @@ import zipfile
 
 import numpy as np
 
-from legbridge.mapping.errors import PlanFormatError
+from legbridge.robots.errors import PlanFormatError
 
 from . import scaling, validation
 from .json_reader import FORMAT_TAG

@@ -3,7 +3,7 @@
 ``build_plan`` runs, per case: column-name checks, value checks, scaling to SI, the axial-force
 conversion, phase detection, the force checks, and builds the frozen ReducedTrajectory.
 
-Axial force (DESIGN.md conventions): the hip-to-foot vector is l (sin a, -cos a) with a the leg
+Axial force (the README's conventions): the hip-to-foot vector is l (sin a, -cos a) with a the leg
 angle from the downward vertical, positive with the foot ahead (+x). A positive axial force pushes
 the body away from the foot, so the ground pushes the foot along the foot-to-hip unit vector:
 ``force_x_n = -axial sin a``, ``force_z_n = axial cos a``.
@@ -15,7 +15,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from legbridge.mapping.errors import PlanFormatError
+from legbridge.robots.errors import PlanFormatError
 from legbridge.mapping.plan import Plan, Policy, ReducedTrajectory, frozen_array
 
 from . import phases, scaling, validation

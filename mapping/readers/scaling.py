@@ -14,11 +14,10 @@ import math
 
 import numpy as np
 
-from legbridge.mapping.errors import PlanFormatError, PlanScalingError
 from legbridge.mapping.plan import Scaling
+from legbridge.robots.errors import PlanFormatError, PlanScalingError
+from legbridge.robots.robot import STANDARD_GRAVITY_M_S2  # the default g (one value in legbridge)
 
-#: Standard gravity [m/s^2] (conventional value, 3rd CGPM 1901; from memory), the default g.
-STANDARD_GRAVITY_M_S2 = 9.80665
 UNITS = ("si", "nondimensional")
 SCALE_KEYS = ("nominal_leg_length_m", "mass_kg", "gravity_m_s2")
 

@@ -19,7 +19,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from legbridge.mapping.errors import PlanFormatError
+from legbridge.robots.errors import PlanFormatError
 
 REQUIRED_COLUMNS = ("time_s", "leg_length_m", "leg_angle_rad")
 FORCE_XZ_COLUMNS = ("force_x_n", "force_z_n")

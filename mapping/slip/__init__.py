@@ -6,8 +6,8 @@ Point-mass body at the hip; massless leg = length actuator in series with a damp
 a :class:`legbridge.mapping.plan.Plan`. Conventions and units: see legbridge.mapping.plan.
 """
 
-from legbridge.mapping.slip.demo import demo_plan
-from legbridge.mapping.slip.errors import SlipInputError
+from legbridge.mapping.slip.demo import demo_plan, shipped_demo_plan, shipped_demo_plan_path
+from legbridge.robots.errors import SlipInputError
 from legbridge.mapping.slip.params import SpringMassParams
 from legbridge.mapping.slip.policy import (
     PolicyCurves,
@@ -47,6 +47,8 @@ __all__ = [
     "plan_from_results",
     "policy_from_functions",
     "policy_from_plan",
+    "shipped_demo_plan",
+    "shipped_demo_plan_path",
     "simulate",
     "simulate_cases",
     "simulate_heights",

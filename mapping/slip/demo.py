@@ -6,20 +6,31 @@ swing-leg retraction at 3 rad/s from 0.457 rad at the apex, and an actuator stro
 0.15 s after the apex that puts back the energy the damper takes. Step-ups of about +0.062 m and
 more fall with this policy (the body is thrown backward), so the demo stops at +0.06 m; a
 disturbance sweep shows the whole window.
+
+The same plan also ships as a file, ``demo-hop-plan.json`` in this package (a byte-identical copy
+of examples/demo-hop-plan.json, both written by examples/make_demo_plans.py): ``demo_plan()``
+integrates an ODE, so its last digits depend on the installed SciPy/NumPy and CPU, whereas
+``shipped_demo_plan_path()`` gives the same bytes on every machine.
 """
 
 from __future__ import annotations
 
+from importlib.resources import files
+from pathlib import Path
+
 from legbridge.mapping.plan import Plan
+from legbridge.mapping.readers import read_plan
 from legbridge.mapping.slip.params import SpringMassParams
 from legbridge.mapping.slip.policy import linear_retraction, policy_from_functions, stroke_profile
 from legbridge.mapping.slip.results import ApexState
 from legbridge.mapping.slip.to_plan import simulate_cases
+from legbridge.robots.errors import InputFileNotFound
 
 DEMO_HEIGHTS_M = (-0.06, -0.03, 0.0, 0.03, 0.06)
 LEFT_OUT_HEIGHTS_M = (0.08,)
 DEMO_DURATION_S = 2.0
 DEMO_RATE_HZ = 500.0
+SHIPPED_DEMO_PLAN = "demo-hop-plan.json"
 DEMO_DESCRIPTION = (
     "INVENTED demo scenario (no real robot): 25 kg lab biped hopping forward at about 1.5 m/s on a "
     "0.70 m spring-mass leg, ground-height cases sharing one open-loop policy"
@@ -68,4 +79,40 @@ def demo_plan(heights_m=DEMO_HEIGHTS_M) -> Plan:
     )
 
 
-__all__ = ["DEMO_HEIGHTS_M", "LEFT_OUT_HEIGHTS_M", "demo_apex", "demo_params", "demo_plan", "demo_policy"]
+def shipped_demo_plan_path() -> Path:
+    """Path of the demo plan file shipped inside the package (package data, same bytes everywhere).
+
+    Found with importlib.resources, so it works from a checkout, an editable install and a regular
+    wheel install. Raises InputFileNotFound when the file is missing from the installation, or when
+    the package is not installed as plain files (e.g. imported from a zip archive).
+    """
+    res = files(__package__) / SHIPPED_DEMO_PLAN
+    if not isinstance(res, Path):
+        raise InputFileNotFound("the shipped demo plan is not a plain file in this installation", path=str(res),
+                                expected="legbridge installed as files (not zipped)", found=type(res).__name__)
+    if not res.is_file():
+        raise InputFileNotFound("the shipped demo plan is missing from this installation", path=str(res),
+                                hint="reinstall legbridge; the file is package data of legbridge.mapping.slip")
+    return res
+
+
+def shipped_demo_plan() -> Plan:
+    """The shipped demo plan file read back as a Plan (legbridge.mapping.readers.read_plan).
+
+    It equals ``demo_plan()`` to within the simulator's integration tolerance; use it (or its path)
+    wherever the exact same numbers are wanted on every machine.
+    """
+    return read_plan(shipped_demo_plan_path())
+
+
+__all__ = [
+    "DEMO_HEIGHTS_M",
+    "LEFT_OUT_HEIGHTS_M",
+    "SHIPPED_DEMO_PLAN",
+    "demo_apex",
+    "demo_params",
+    "demo_plan",
+    "demo_policy",
+    "shipped_demo_plan",
+    "shipped_demo_plan_path",
+]

@@ -10,7 +10,7 @@ from __future__ import annotations
 import math
 from dataclasses import MISSING, asdict, dataclass, fields
 
-from legbridge.mapping.slip.errors import SlipInputError
+from legbridge.robots.errors import SlipInputError
 
 
 @dataclass(frozen=True)

@@ -16,7 +16,7 @@ import numpy as np
 from scipy.interpolate import PchipInterpolator
 
 from legbridge.mapping.plan import Policy, frozen_array
-from legbridge.mapping.slip.errors import SlipInputError
+from legbridge.robots.errors import SlipInputError
 
 
 def make_policy(time_s, actuator_length_m, touchdown_angle_rad) -> Policy:

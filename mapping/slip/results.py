@@ -6,7 +6,7 @@ import math
 from dataclasses import dataclass
 
 from legbridge.mapping.plan import ReducedTrajectory
-from legbridge.mapping.slip.errors import SlipInputError
+from legbridge.robots.errors import SlipInputError
 
 COMPLETED = "completed"
 FELL = "fell"

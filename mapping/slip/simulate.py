@@ -35,7 +35,7 @@ from scipy.integrate import solve_ivp
 
 from legbridge.mapping.plan import Policy, ReducedTrajectory, frozen_array
 from legbridge.mapping.slip import dynamics as dyn
-from legbridge.mapping.slip.errors import SlipInputError
+from legbridge.robots.errors import SlipInputError
 from legbridge.mapping.slip.params import SpringMassParams
 from legbridge.mapping.slip.policy import PolicyCurves
 from legbridge.mapping.slip.results import (

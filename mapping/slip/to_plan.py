@@ -8,7 +8,7 @@ import json
 import numpy as np
 
 from legbridge.mapping.plan import Plan, Policy
-from legbridge.mapping.slip.errors import SlipInputError
+from legbridge.robots.errors import SlipInputError
 from legbridge.mapping.slip.params import SpringMassParams
 from legbridge.mapping.slip.policy import make_policy
 from legbridge.mapping.slip.results import ApexState, SimulationResult

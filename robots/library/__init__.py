@@ -26,3 +26,13 @@ def resolve_robot(name_or_path) -> Path:
     if p.parent == Path(".") and (p.name in names or p.name + ".toml" in names):
         return library_path(p.name if p.name in names else p.name + ".toml")
     raise InputFileNotFound("no such file or bundled robot", path=str(p), hint=f"bundled robots: {[n[:-5] for n in names]}")
+
+
+def as_robot(robot):
+    """A Robot as given, or the Robot of a description file path or bundled robot name."""
+    from ..robot import Robot
+    from ..toml_reader import load_robot
+
+    if isinstance(robot, Robot):
+        return robot
+    return load_robot(resolve_robot(robot))

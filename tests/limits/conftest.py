@@ -47,7 +47,7 @@ def build_trajectory(robot, q, qd=None, qdd=None, tau=None, jacobian=None, force
 
 
 def leg_jacobian(robot, q):
-    """Foot Jacobian (n, 2, 2) of the planar two-segment leg, by hand (DESIGN conventions):
+    """Foot Jacobian (n, 2, 2) of the planar two-segment leg, by hand (README conventions):
     foot x = -l1 sin q1 - l2 sin(q1+q2), z = -l1 cos q1 - l2 cos(q1+q2) relative to the hip."""
     q = np.atleast_2d(q)
     l1, l2 = robot.segments[0].length_m, robot.segments[1].length_m

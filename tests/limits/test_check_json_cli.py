@@ -1,5 +1,5 @@
-"""JSON review against its documented schema (limits/review_json.py docstring), atomic writing, and
-the `legbridge check` exit codes (DESIGN.md: 0 within, 1 exceeded, 2 bad input)."""
+"""JSON review against its documented schema (limits/review/json_doc.py docstring), atomic writing, and
+the `legbridge check` exit codes (README: 0 within, 1 exceeded, 2 bad input)."""
 
 import json
 import re
@@ -11,10 +11,12 @@ import pytest
 
 from legbridge.limits import cli
 from legbridge.limits.cautions import CAUTIONS
-from legbridge.limits.check import check_plan, rank_cases
-from legbridge.limits.commands import check as check_cmd
-from legbridge.limits.results import SCHEMA_VERSION, CheckSettings
-from legbridge.limits.review_json import review_to_json, write_json
+from legbridge.limits.checks.case import check_plan
+from legbridge.limits.checks.results import CheckSettings
+from legbridge.limits.cli import check as check_cmd
+from legbridge.limits.review.json_doc import SCHEMA_VERSION, review_to_json, write_json
+from legbridge.limits.review.review import assemble_review
+from legbridge.mapping.pipeline import Prepared
 from legbridge.robots.errors import OutputExistsError
 
 SEGMENT_KEYS = {"joint", "limit", "severity", "t_start_s", "t_end_s", "i_start", "i_end", "peak", "allowed", "unit", "utilisation"}
@@ -34,7 +36,7 @@ def _cases(robot, make_traj):
 def test_json_matches_documented_schema_and_is_written_atomically(example_robot, make_traj, tmp_path):
     reviews = check_plan(_cases(example_robot, make_traj), example_robot, CheckSettings(run_qps=True))
     plan = SimpleNamespace(path="plan.csv", sha256="ab" * 32)
-    doc = review_to_json(reviews, plan, example_robot, CheckSettings())
+    doc = review_to_json(assemble_review(plan, example_robot, CheckSettings(), reviews))
     assert doc["schema"] == SCHEMA_VERSION and doc["plan_sha256"] == "ab" * 32
     assert doc["robot_sha256"] == example_robot.sha256 and isinstance(doc["tool_version"], str)
     assert doc["cautions"] == list(CAUTIONS)
@@ -59,13 +61,16 @@ def test_json_matches_documented_schema_and_is_written_atomically(example_robot,
 
 def test_non_finite_numbers_become_null(example_robot, make_traj):
     traj = make_traj(example_robot, np.tile([0.0, -1.0], (3, 1)), force=[[10.0, 0.0]] * 3)  # friction util inf
-    doc = review_to_json(check_plan([traj], example_robot, CheckSettings(run_qps=False)), None, example_robot, None)
+    plan = SimpleNamespace(path="plan.csv", sha256="")
+    doc = review_to_json(assemble_review(plan, example_robot, None, check_plan([traj], example_robot, CheckSettings(run_qps=False))))
     json.dumps(doc, allow_nan=False)
     assert doc["cases"][0]["worst"]["friction_cone"] is None
 
 
 def _run(monkeypatch, capsys, trajs, robot, argv):
-    monkeypatch.setattr(check_cmd, "load_inputs", lambda p, r, rate: (SimpleNamespace(path=p, sha256="00", scaling=None), robot, tuple(trajs)))
+    plan = SimpleNamespace(path="plan.csv", sha256="00", scaling=None)
+    monkeypatch.setattr(check_cmd, "prepare", lambda p, r, rate_hz: Prepared(plan, robot, tuple(trajs), rate_hz))
+    monkeypatch.setattr("legbridge.robots.library.resolve_robot", lambda r: r)
     code = cli.main(["check", "plan.csv", "--robot", "robot.toml"] + argv)
     return code, capsys.readouterr()
 
@@ -92,6 +97,24 @@ def test_missing_robot_file_exits_2(tmp_path, capsys):
 
 def test_rank_cases_orders_worst_first(example_robot, make_traj):
     good, bad = _cases(example_robot, make_traj)
-    ranks = rank_cases(check_plan([good, bad], example_robot, CheckSettings(run_qps=False)))
+    review = assemble_review(SimpleNamespace(path="plan.csv", sha256=""), example_robot, None,
+                             check_plan([good, bad], example_robot, CheckSettings(run_qps=False)))
+    ranks = review.ranked
     assert [r.case for r in ranks] == ["drop", "nominal"]
-    assert ranks[0].worst_limit == "joint_range" and ranks[0].worst_joint == "knee" and ranks[0].worst_utilisation > 1
+    w = ranks[0].summary.worst
+    assert w.limit == "joint_range" and w.joint == "knee" and w.utilisation > 1
+
+
+def test_check_and_review_print_the_same_utilisation(example_robot, make_traj, monkeypatch, capsys):
+    # one formatter (limits.verdict.utilisation_text) for every output: the check summary, the JSON
+    # value and the report text agree on the worst finding's utilisation
+    from legbridge.limits.review.report import render_report
+    from legbridge.limits.verdict import utilisation_text
+
+    good, bad = _cases(example_robot, make_traj)
+    code, cap = _run(monkeypatch, capsys, [good, bad], example_robot, [])
+    review = assemble_review(SimpleNamespace(path="plan.csv", sha256="00", scaling=None, cases=(), case_names=(),
+                                             metadata={}), example_robot, CheckSettings(),
+                             check_plan([good, bad], example_robot, CheckSettings()))
+    text = utilisation_text(review.case("drop").summary.worst.utilisation)
+    assert text in cap.out and text.replace(" %", "&nbsp;%") in render_report(review)

@@ -11,8 +11,8 @@ from dataclasses import replace
 import numpy as np
 import pytest
 
-from legbridge.limits.check import check_case
-from legbridge.limits.results import CheckSettings
+from legbridge.limits.checks.case import check_case
+from legbridge.limits.checks.results import CheckSettings
 from legbridge.mapping.joint_trajectory import FLAG_UNREACHABLE
 
 QUICK = CheckSettings(run_qps=False)
@@ -111,7 +111,9 @@ def test_mapping_flags_and_nan_fail_closed(example_robot, make_traj):
     assert not r.passed
     assert any("out of reach" in f for f in r.findings)
     assert any(f.startswith("joint_range of knee") for f in r.findings)
-    assert [(s.i_start, s.i_end) for s in _segs(r, "mapping")] == [(1, 1)]
+    # a flagged sample is a finding only (not a pseudo-limit too): counted once, with its time
+    assert any("out of reach (1 samples, first at t = 0.0010 s)" in f for f in r.findings)
+    assert not any(t.limit == "mapping" for t in r.traces) and r.verdict == "exceeds"
     assert [(s.i_start, s.i_end) for s in _segs(r, "joint_range", "exceeds")] == [(3, 3)]
 
 

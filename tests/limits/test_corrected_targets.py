@@ -8,9 +8,10 @@ import json
 import numpy as np
 import pytest
 
-from legbridge.limits.check import check_plan
-from legbridge.limits.corrected_targets import CSV_PREFIX, CorrectedTargetsError, write_corrected_targets
-from legbridge.limits.results import CheckSettings
+from legbridge.limits.checks.case import check_plan
+from legbridge.limits.review.corrected_targets import CSV_PREFIX, CorrectedTargetsError, write_corrected_targets
+from legbridge.limits.checks.results import CheckSettings
+from legbridge.limits.review.review import assemble_review
 from legbridge.mapping.slip.demo import demo_plan
 from legbridge.mapping.translate import translate_plan
 from legbridge.robots import load_robot
@@ -21,13 +22,15 @@ from legbridge.robots.actuator_limits import max_joint_speed
 def reviewed():
     robot = load_robot("lab-biped-leg")
     plan = demo_plan((-0.06,))
-    reviews = check_plan(translate_plan(plan, robot, rate_hz=500.0), robot, CheckSettings(rate_hz=500.0))
-    return plan, robot, reviews
+    settings = CheckSettings(rate_hz=500.0)
+    review = assemble_review(plan, robot, settings, check_plan(translate_plan(plan, robot, rate_hz=500.0), robot, settings))
+    return plan, robot, review
 
 
 def test_file_is_marked_and_holds_the_qp_motion(tmp_path, reviewed):
-    plan, robot, reviews = reviewed
-    out = write_corrected_targets(reviews, tmp_path / "targets-modified.csv", plan=plan, robot=robot)
+    plan, robot, review = reviewed
+    reviews = review.cases
+    out = write_corrected_targets(review, tmp_path / "targets-modified.csv")
     lines = out.read_text().splitlines()
     assert lines[0].startswith(CSV_PREFIX)
     meta = json.loads(lines[0][len(CSV_PREFIX):])
@@ -44,10 +47,11 @@ def test_file_is_marked_and_holds_the_qp_motion(tmp_path, reviewed):
 
 
 def test_unmarked_name_and_failed_qp_are_refused(tmp_path, reviewed):
-    plan, robot, reviews = reviewed
+    plan, robot, review = reviewed
+    reviews = review.cases
     with pytest.raises(CorrectedTargetsError, match="containing 'modified'"):
-        write_corrected_targets(reviews, tmp_path / "targets.csv", plan=plan, robot=robot)
+        write_corrected_targets(review, tmp_path / "targets.csv")
     failed = dataclasses.replace(reviews[0], motion_qp=dataclasses.replace(reviews[0].motion_qp, ok=False, status="infeasible"))
     with pytest.raises(CorrectedTargetsError, match="did not solve.*infeasible"):
-        write_corrected_targets((failed,), tmp_path / "x-modified.csv", plan=plan, robot=robot)
+        write_corrected_targets(dataclasses.replace(review, cases=(failed,)), tmp_path / "x-modified.csv")
     assert not (tmp_path / "x-modified.csv").exists()

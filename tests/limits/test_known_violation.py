@@ -15,8 +15,8 @@ from dataclasses import replace
 import numpy as np
 import pytest
 
-from legbridge.limits.check import check_case
-from legbridge.limits.results import CheckSettings
+from legbridge.limits.checks.case import check_case
+from legbridge.limits.checks.results import CheckSettings
 
 Q = np.array([0.3, -0.8])
 F = np.array([10.0, 150.0])

@@ -109,7 +109,7 @@ def test_motion_qp_leaves_a_feasible_plan_alone(example_robot, make_traj):
     t = np.arange(200) / 1000
     q = np.column_stack([0.1 * np.sin(2 * np.pi * t), -1.0 + 0.1 * np.cos(2 * np.pi * t)])
     traj = make_traj(example_robot, q)
-    from legbridge.limits.results import CheckSettings
+    from legbridge.limits.checks.results import CheckSettings
 
     _, sol = mqp.nearest_motion(traj, example_robot, CheckSettings())
     assert sol.ok and np.max(np.abs(sol.values["deviation_rad"])) < 1e-6  # interior-point tolerance

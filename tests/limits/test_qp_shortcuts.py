@@ -9,7 +9,7 @@ import pytest
 from legbridge.limits.qp import force as fqp
 from legbridge.limits.qp import motion as mqp
 from legbridge.limits.qp.problem import solve
-from legbridge.limits.results import CheckSettings
+from legbridge.limits.checks.results import CheckSettings
 from legbridge.mapping.slip.demo import demo_plan
 from legbridge.mapping.translate import translate_plan
 from legbridge.robots import load_robot

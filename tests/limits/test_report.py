@@ -1,10 +1,11 @@
 """The HTML review report: structure, verdicts, the known violation, shading, cautions, no overwrite.
 
-The reviews come from the fake builder (test_report_fakes.py): the invented example leg, hip torque
-humps of 30, 41 and 50 N m against the hip's peak torque eta N Kt I_peak = 0.9 * 10 * 0.12 * 40 =
-43.2 N m (DC motor model, Hughes and Drury, Electric Motors and Drives, 4th ed., ch. 3). With the
-default 10 % margin the near band starts at 0.9 * 43.2 = 38.88 N m, so by hand: 30 N m is within,
-41 N m is near, 50 N m exceeds.
+The review comes from the real check path (report_fixtures.py): the invented example leg with its hip
+held still, hip torque humps of 30, 41 and 50 N m against the hip's peak torque eta N Kt I_peak =
+0.9 * 10 * 0.12 * 40 = 43.2 N m (DC motor model, Hughes and Drury, Electric Motors and Drives, 4th ed.,
+ch. 3; motoring at standstill). With the default 10 % margin the near band starts at 0.9 * 43.2 =
+38.88 N m, so by hand: 30 N m is within, 41 N m is near, 50 N m exceeds. At standstill the drive
+current is tau / (eta N Kt), so the hip's peak current (40 A) is reached at the same samples.
 """
 
 from __future__ import annotations
@@ -16,19 +17,20 @@ from html import unescape
 from html.parser import HTMLParser
 from pathlib import Path
 
+import numpy as np
 import pytest
 
-from legbridge.limits.cautions import CAUTIONS, VERDICT_EXCEEDS, VERDICT_NEAR, VERDICT_NOT_EVALUATED, VERDICT_WITHIN
-from legbridge.limits.report import SECTION_IDS, exit_code, render_report, write_report
-from legbridge.limits.report import plots
-from legbridge.limits.results import CheckSettings
+from legbridge.limits.cautions import CAUTIONS
+from legbridge.limits.review.report import SECTION_IDS, plots, render_report, write_report
+from legbridge.limits.verdict import Verdict
 from legbridge.robots.errors import OutputExistsError
 
-fakes = __import__("importlib").util.module_from_spec(
-    spec := __import__("importlib").util.spec_from_file_location("report_fakes", Path(__file__).with_name("test_report_fakes.py")))
-spec.loader.exec_module(fakes)
+fixtures = __import__("importlib").util.module_from_spec(
+    spec := __import__("importlib").util.spec_from_file_location("report_fixtures", Path(__file__).with_name("report_fixtures.py")))
+spec.loader.exec_module(fixtures)
 
-SETTINGS = CheckSettings(rate_hz=200.0, duration_s=120.0, margin=0.1)
+VERDICT_WITHIN, VERDICT_NEAR, VERDICT_EXCEEDS, VERDICT_NOT_EVALUATED = (
+    v.words for v in (Verdict.WITHIN, Verdict.NEAR, Verdict.EXCEEDS, Verdict.NOT_EVALUATED))
 
 
 class Doc(HTMLParser):
@@ -74,25 +76,38 @@ class Doc(HTMLParser):
 
 @pytest.fixture(scope="module")
 def robot():
-    return fakes.robot()
+    return fixtures.robot()
 
 
 @pytest.fixture(scope="module")
 def reviewed(robot):
-    trajs, reviews = fakes.reviews_with_violation(robot)
-    plan = fakes.plan_for(trajs)
-    html = render_report(reviews, plan, robot, SETTINGS, created="2025-01-01T12:00:00+00:00")
+    review = fixtures.review_with_violation(robot)
+    html = render_report(review)
     doc = Doc()
     doc.feed(html)
     doc.close()
-    return reviews, plan, html, doc
+    return review, review.plan, html, doc
+
+
+def test_bump_case_exceeds_the_hand_computed_peak_torque(reviewed):
+    # Peak joint torque = eta N Kt I_peak (DC motor model, Hughes and Drury, Electric Motors and Drives,
+    # 4th ed., ch. 3): 0.9 * 10 * 0.12 N m/A * 40 A = 43.2 N m for the example hip (values from its file).
+    bump = reviewed[0].case("bump")
+    seg = [s for s in bump.segments if s.severity == "exceeds" and s.limit == "peak_torque"]
+    assert len(seg) == 1 and seg[0].joint == "hip"
+    assert math.isclose(seg[0].allowed, 43.2, rel_tol=1e-12)
+    assert math.isclose(seg[0].peak, 50.0, rel_tol=1e-9)  # sin(pi t/T) reaches 1 at the sample t = T/2
+    # 50 sin(pi t / 0.4) > 43.2 for t in (0.4/pi) (asin(0.864), pi - asin(0.864)) = (0.1327 s, 0.2673 s)
+    lo = 0.4 / math.pi * math.asin(43.2 / 50.0)
+    assert lo <= seg[0].t_start_s < lo + 1 / 200.0
+    assert 0.4 - lo - 1 / 200.0 < seg[0].t_end_s <= 0.4 - lo
 
 
 def test_every_section_in_order_and_every_case(reviewed):
-    reviews, _, _, doc = reviewed
+    review, _, _, doc = reviewed
     positions = [doc.ids.index(s) for s in SECTION_IDS]  # ValueError if a section is missing
     assert positions == sorted(positions)
-    for r in reviews:
+    for r in review.cases:
         assert f"case-{r.case}" in doc.ids
     for j in ("hip", "knee"):
         assert f"joint-{j}" in doc.ids
@@ -109,7 +124,7 @@ def test_verdict_table_agrees_with_hand_computed_verdicts(reviewed):
     bump = next(r for r in body if r[0] == "bump")
     assert bump[col["Worst limit"]] == "peak torque" and bump[col["Joint"]] == "hip"
     assert bump[col["Utilisation [%]"]] == f"{100 * 50 / 43.2:.1f} %"  # 115.7 %
-    assert exit_code(reviewed[0]) == 1
+    assert reviewed[0].exit_code == 1
 
 
 def test_ranking_lists_worst_case_first(reviewed):
@@ -124,8 +139,15 @@ def test_known_violation_is_in_the_segments_table(reviewed):
     rows = doc.tables["segments"]
     col = {name: i for i, name in enumerate(rows[0])}
     exceeding = [r for r in rows[1:] if r[col["Severity"]] == VERDICT_EXCEEDS]
-    assert len(exceeding) == 1
-    r = exceeding[0]
+    torque = [r for r in exceeding if r[col["Limit"]] == "peak torque"]
+    assert len(torque) == 1
+    r = torque[0]
+    # the only other exceeding segment: the hip's drive current over the same samples (I = tau / (eta N Kt)
+    # at standstill reaches 40 A exactly where tau reaches 43.2 N m)
+    others = [x for x in exceeding if x is not r]
+    assert [(x[col["Joint"]], x[col["Limit"]], x[col["Start [s]"]], x[col["End [s]"]]) for x in others] == [
+        ("hip", "peak current", r[col["Start [s]"]], r[col["End [s]"]])]
+    assert float(others[0][col["Peak"]]) == pytest.approx(50.0 / (0.9 * 10 * 0.12), rel=1e-3)  # 4 digits shown
     assert (r[col["Case"]], r[col["Joint"]], r[col["Limit"]], r[col["Unit"]]) == ("bump", "hip", "peak torque", "N m")
     assert float(r[col["Peak"]]) == pytest.approx(50.0, rel=1e-3)
     assert float(r[col["Allowed"]]) == pytest.approx(43.2, rel=1e-3)
@@ -137,7 +159,7 @@ def test_known_violation_is_in_the_segments_table(reviewed):
 
 
 def test_joint_figure_shades_the_violation_in_the_torque_row(robot, reviewed):
-    reviews = reviewed[0]
+    reviews = reviewed[0].cases
     fig = plots.case_joints_figure(reviews[2], robot)
     exceeds = [s for s in fig.shaded if s.severity == "exceeds"]
     assert [(s.joint, s.row) for s in exceeds] == [("hip", "torque")]
@@ -153,8 +175,10 @@ def test_row_for_limit_names_of_the_checks():
     assert plots.row_for_limit("joint_speed") == "speed"
     for lim in ("peak_torque", "voltage", "peak_current", "winding_temperature"):
         assert plots.row_for_limit(lim) == "torque"
-    assert plots.row_for_limit("mapping") is None
+    for lim in ("supply_power", "regen_energy", "friction_cone", "unilateral_force"):  # in no joint row
+        assert plots.row_for_limit(lim) is None
     assert plots.is_ground_limit("friction_cone") and plots.is_ground_limit("unilateral_force")
+    assert not plots.is_ground_limit("supply_power")
 
 
 def test_caution_text_present_and_never_the_word_safe(reviewed):
@@ -170,7 +194,7 @@ def test_caution_text_present_and_never_the_word_safe(reviewed):
 def test_identity_and_self_contained(reviewed, robot):
     _, plan, html, doc = reviewed
     text = " ".join(doc.text)
-    for needle in (plan.sha256, robot.sha256, robot.name, "200 Hz", "120 s", "10 %", "2025-01-01T12:00:00+00:00"):
+    for needle in (plan.sha256, robot.sha256, robot.name, "200 Hz", "2 s", "10 %", "2025-01-01T12:00:00+00:00"):
         assert needle in text
     assert not any(t in ("script", "link", "iframe") for t, _ in doc.tags)
     for tag, a in doc.tags:
@@ -198,38 +222,40 @@ def test_sign_off_has_checklist_and_blanks(reviewed):
 
 
 def test_a_case_that_could_not_be_evaluated_is_never_within(robot):
-    traj = fakes.trajectory("ik-fail", 10.0)
-    rv = fakes.case_review(traj, robot, findings=("inverse kinematics did not converge at 3 samples",), thermal=False)
-    html = render_report((rv,), fakes.plan_for((traj,)), robot, SETTINGS)
+    from legbridge.mapping.joint_trajectory import FLAG_IK_NOT_CONVERGED, FLAG_NAMES
+
+    flags = np.zeros(81, int)
+    flags[10:13] = FLAG_IK_NOT_CONVERGED  # the mapping could not solve 3 samples
+    traj = fixtures.trajectory(robot, "ik-fail", 10.0, flags=flags)
+    review = fixtures.review_of(robot, (traj,))
+    html = render_report(review)
     doc = Doc()
     doc.feed(html)
     rows = doc.tables["verdicts"]
     col = {n: i for i, n in enumerate(rows[0])}
     assert rows[1][col["Verdict"]] == VERDICT_NOT_EVALUATED
-    assert "inverse kinematics did not converge" in rows[1][col["Could not be evaluated"]]
-    assert "winding temperature was not computed" in html  # fail closed: missing thermal result said so
-    assert exit_code((rv,)) == 1
+    assert f"{FLAG_NAMES[FLAG_IK_NOT_CONVERGED]} (3 samples" in rows[1][col["Could not be evaluated"]]
+    assert review.exit_code == 1
 
 
 def test_write_report_is_atomic_and_refuses_overwrite(tmp_path, robot):
-    traj = fakes.trajectory("nominal", 30.0, duration_s=0.1)
-    rv = fakes.case_review(traj, robot)
-    plan = fakes.plan_for((traj,))
+    traj = fixtures.trajectory(robot, "nominal", 30.0, duration_s=0.1)
+    review = fixtures.review_of(robot, (traj,))
     out = tmp_path / "report.html"
-    write_report((rv,), plan, robot, SETTINGS, out)
+    write_report(review, out)
     first = out.read_bytes()
     with pytest.raises(OutputExistsError, match="report.html"):
-        write_report((rv,), plan, robot, SETTINGS, out)
+        write_report(review, out)
     assert out.read_bytes() == first
-    write_report((rv,), plan, robot, SETTINGS, out, force=True, created="x")
+    write_report(fixtures.review_of(robot, (traj,), created="x"), out, force=True)
     assert out.read_bytes() != first
     assert sorted(p.name for p in tmp_path.iterdir()) == ["report.html"]  # no temp file left
-    assert exit_code((rv,)) == 0 and math.isfinite(rv.worst["peak_torque"])
+    assert review.exit_code == 0 and math.isfinite(review.cases[0].worst["peak_torque"])
 
 
 def test_case_ids_differ_for_cases_that_differ_only_in_sign():
     # 'ground-0.06m' and 'ground+0.06m' must not share an anchor (links in the verdict table)
-    from legbridge.limits.report.sections import slug
+    from legbridge.limits.review.report.sections import slug
 
     names = ["ground-0.06m", "ground+0.06m", "ground_0.06m", "ground 0.06m", "nominal"]
     assert len({slug(n) for n in names}) == len(names)

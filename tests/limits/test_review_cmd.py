@@ -21,16 +21,22 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from legbridge.limits.cautions import CAUTIONS, VERDICT_EXCEEDS, VERDICT_NEAR, VERDICT_WITHIN
+from legbridge.limits.cautions import CAUTIONS
+from legbridge.limits.verdict import Verdict
 from legbridge.limits.cli import main
-from legbridge.limits.report import SECTION_IDS, verdict_words
-from legbridge.limits.results import CheckSettings
-from legbridge.limits.review import REPORT_HTML, REVIEW_JSON, TARGETS_FILE, run_review
+from legbridge.limits.review.report import SECTION_IDS
+from legbridge.limits.checks.results import CheckSettings
+from legbridge.limits.review.run import REPORT_HTML, REVIEW_JSON, TARGETS_FILE, run_review
 from legbridge.robots.errors import OutputExistsError
 from legbridge.robots.library import library_path
 
 ROBOT = str(library_path("example-leg.toml"))
 OUTPUTS = sorted([REVIEW_JSON, REPORT_HTML, TARGETS_FILE])
+
+VERDICT_EXCEEDS = Verdict.EXCEEDS.words
+VERDICT_NEAR = Verdict.NEAR.words
+VERDICT_WITHIN = Verdict.WITHIN.words
+
 
 
 def _case(name, peak_n, ground_height_m=0.0, n=61, stance_s=0.3):
@@ -186,8 +192,8 @@ def test_force_overwrites_and_api_outcome(three_case_plan, tmp_path):
         run_review(three_case_plan, ROBOT, CheckSettings(rate_hz=100.0), out)
     seen = []
     res = run_review(three_case_plan, ROBOT, CheckSettings(rate_hz=100.0), out, force=True, progress=seen.append)
-    assert res.exit_code == 1 and [r.case for r in res.reviews] == ["nominal", "step-up", "drop"]
-    assert [verdict_words(r) for r in res.reviews] == [VERDICT_WITHIN, VERDICT_NEAR, VERDICT_EXCEEDS]
+    assert res.exit_code == 1 and [r.case for r in res.review.cases] == ["nominal", "step-up", "drop"]
+    assert [r.verdict.words for r in res.review.cases] == [VERDICT_WITHIN, VERDICT_NEAR, VERDICT_EXCEEDS]
     assert (out / REPORT_HTML).read_text() != "old" and (out / "notes.txt").read_text() == "the user's own file"
     assert set(res.paths) == {"review", "targets", "report"} and all(p.is_file() for p in res.paths.values())
     assert any("checking case drop" in m for m in seen)

@@ -5,8 +5,8 @@ import numpy as np
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from legbridge.limits.results import LimitTrace
-from legbridge.limits.segments import runs, severity_levels, trace_segments
+from legbridge.limits.checks.results import LimitTrace
+from legbridge.limits.checks.segments import runs, severity_levels, trace_segments
 
 
 def _tr(util, limit="x", joint="j"):

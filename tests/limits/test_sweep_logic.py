@@ -10,8 +10,11 @@ import math
 import numpy as np
 import pytest
 
-from legbridge.limits.results import CASE_EXCEEDS, CASE_NEAR, CASE_NOT_EVALUATED, CASE_WITHIN, CheckSettings
-from legbridge.limits.sweep import (
+from legbridge.limits.checks.results import CheckSettings
+from legbridge.limits.verdict import Verdict
+
+CASE_EXCEEDS, CASE_NEAR, CASE_NOT_EVALUATED, CASE_WITHIN = Verdict.EXCEEDS, Verdict.NEAR, Verdict.NOT_EVALUATED, Verdict.WITHIN
+from legbridge.limits.sweep.model import (
     END_FALL,
     END_LIMIT,
     END_NOT_EVALUATED,
@@ -22,7 +25,7 @@ from legbridge.limits.sweep import (
     apex_error,
     assemble,
     default_offsets,
-    parse_heights,
+    parse_offsets,
     setup_from_plan,
     sweep_window,
 )
@@ -54,7 +57,7 @@ def test_window_is_the_contiguous_run_containing_zero_and_names_what_closes_it()
 
 
 def test_window_fails_closed():
-    """DESIGN.md 'fail closed': an unevaluated offset closes the window; a failing nominal empties it."""
+    """Fail closed: an unevaluated offset closes the window; a failing nominal empties it."""
     w = sweep_window([res(0.0), res(0.01, CASE_NOT_EVALUATED, findings=("QP motion: solver status 'infeasible'",))])
     assert w.above.kind == END_NOT_EVALUATED and "infeasible" in w.above.text and (w.lo_m, w.hi_m) == (0.0, 0.0)
     # findings on a case whose samples are 'within' still mean not evaluated
@@ -71,14 +74,14 @@ def test_window_fails_closed():
 def test_offset_grids_match_numpy_linspace():
     """Reference: numpy.linspace (N evenly spaced values, both ends included); default grid 11
     offsets over +-0.1 l0 (issue 6, common practice)."""
-    np.testing.assert_allclose(parse_heights("-0.05:0.05:5"), np.linspace(-0.05, 0.05, 5), atol=1e-15)
-    assert parse_heights("-0.05:0.05:5")[2] == 0.0 and parse_heights("0.02:0.02:1") == (0.02,)
+    np.testing.assert_allclose(parse_offsets("-0.05:0.05:5"), np.linspace(-0.05, 0.05, 5), atol=1e-15)
+    assert parse_offsets("-0.05:0.05:5")[2] == 0.0 and parse_offsets("0.02:0.02:1") == (0.02,)
     d = default_offsets(0.70)
     np.testing.assert_allclose(d, np.linspace(-0.07, 0.07, 11), atol=1e-15)
     assert len(d) == 11 and d[5] == 0.0
     for bad in ("0.1:-0.1:3", "a:b:3", "0:1", "0:1:0", "0:1:1", "0:1:2.5", "nan:1:3"):
         with pytest.raises(SweepInputError, match="LO:HI:N"):
-            parse_heights(bad)
+            parse_offsets(bad)
 
 
 def test_apex_error_by_hand():
@@ -107,7 +110,7 @@ def _sweep(rs):
 
 def test_table_and_json_round_trip(tmp_path):
     """CSV read back with the csv module and JSON with json: the same offsets, in order, non-finite as empty / null."""
-    from legbridge.limits.sweep_table import to_csv_text, to_json_doc, write_csv
+    from legbridge.limits.sweep.table import to_csv_text, to_json_doc, write_csv
 
     sw = _sweep([res(0.02, fell="body moving backward"), res(0.0), res(-0.02, CASE_EXCEEDS, u=math.inf, limit="friction_cone", joint="")])
     rows = list(csv.DictReader(io.StringIO(to_csv_text([sw]))))
@@ -129,7 +132,7 @@ def test_table_and_json_round_trip(tmp_path):
 
 def test_plot_marks_window_falls_and_limit_line():
     """The figure: one series per limit, the 100 % line, the window span, the fallen offsets, axis units."""
-    from legbridge.limits.report.sweep_plot import plot_sweep
+    from legbridge.limits.sweep.plot import plot_sweep
 
     rs = [res(-0.02, CASE_EXCEEDS, u=1.4), res(0.0, u=0.8), res(0.02, u=0.9), res(0.04, fell="body moving backward")]
     fig = plot_sweep(_sweep(rs))

@@ -14,9 +14,9 @@ import numpy as np
 import pytest
 
 from legbridge.limits import cli
-from legbridge.limits.results import CheckSettings
-from legbridge.limits.sweep import END_FALL, NOT_CHECKED
-from legbridge.limits.sweep_runner import run_sweep
+from legbridge.limits.checks.results import CheckSettings
+from legbridge.limits.sweep.model import END_FALL, NOT_CHECKED
+from legbridge.limits.sweep.runner import run_sweep
 from legbridge.mapping.plan_writer import write_plan
 from legbridge.mapping.slip import simulate_cases
 from legbridge.mapping.slip.demo import demo_apex, demo_params, demo_policy
@@ -142,7 +142,7 @@ def _main(argv, capsys):
 
 
 def test_cli_exit_codes_outputs_and_caution(short_plan_file, ample_robot, tmp_path, capsys):
-    """Exit codes (DESIGN.md / issue 6): 0 every offset within the modelled limits, 1 otherwise, 2 bad input."""
+    """Exit codes (README, "Exit status"): 0 every offset within the modelled limits, 1 otherwise, 2 bad input."""
     csv_out, json_out, png = tmp_path / "s.csv", tmp_path / "s.json", tmp_path / "s.png"
     code, cap = _main([short_plan_file, "--robot", ample_robot, "--heights=0:0:1", "--rate", "500", "--jobs", "1",
                        "--csv", csv_out, "--json", json_out, "--plot", png], capsys)

@@ -13,7 +13,7 @@ import numpy as np
 import pytest
 from scipy.integrate import solve_ivp
 
-from legbridge.limits.thermal import simulate, temperature_rise_k
+from legbridge.limits.checks.thermal import simulate, temperature_rise_k
 from legbridge.robots.robot import ThermalModel
 
 ONE = ThermalModel(winding_resistance_k_per_w=1.8, winding_time_constant_s=60.0, max_winding_temp_c=120.0, ambient_temp_c=25.0)

@@ -11,7 +11,7 @@ from legbridge.mapping.plan import ReducedTrajectory
 from legbridge.mapping.translate import translate
 from legbridge.robots.leg_model import build_leg_model
 
-G = 9.81
+G = 9.80665  # standard gravity (3rd CGPM, 1901), the value legbridge gives its Pinocchio model
 
 
 def run_rnea(leg, q, qd, qdd, force, base_acc=(0.0, 0.0)):
@@ -59,7 +59,7 @@ def test_rnea_with_foot_force_matches_lagrangian_base_fixed(example_robot, examp
 
 
 def test_foot_force_changes_torques_by_exactly_minus_jt_f(example_leg_model):
-    # DESIGN.md pitfall check (principle of virtual work: generalised force of F is J^T F).
+    # Known pitfall of pin.rnea checked (principle of virtual work: generalised force of F is J^T F).
     rng = np.random.default_rng(5)
     n = 20
     q = np.column_stack([rng.uniform(-1, 1, n), rng.uniform(-2.4, -0.1, n)])

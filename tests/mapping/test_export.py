@@ -9,6 +9,7 @@ import pytest
 
 from legbridge.mapping.plan import Plan, ReducedTrajectory, Scaling
 from legbridge.mapping.targets_export import TargetsExportError, read_targets_metadata, write_targets
+from legbridge.robots.errors import OutputFolderError
 from legbridge.mapping.translate import translate_plan
 from legbridge.robots.errors import OutputExistsError
 
@@ -92,6 +93,6 @@ def test_bad_requests_are_refused(tmp_path, translated, example_robot):
         write_targets(trajs, tmp_path / "t.txt", plan=plan, robot=example_robot, rate_hz=500.0)
     with pytest.raises(TargetsExportError, match="another rate"):
         write_targets(trajs, tmp_path / "t.csv", plan=plan, robot=example_robot, rate_hz=1000.0)
-    with pytest.raises(TargetsExportError, match="folder"):
+    with pytest.raises(OutputFolderError, match="folder"):
         write_targets(trajs, tmp_path / "nope" / "t.csv", plan=plan, robot=example_robot, rate_hz=500.0)
     assert list(tmp_path.iterdir()) == []

@@ -60,7 +60,7 @@ def test_forward_then_inverse_round_trip(q1, q2, knee):
 
 
 def test_leg_vector_convention():
-    # DESIGN.md: positive leg angle puts the foot ahead of (+x) and below the hip.
+    # README conventions: positive leg angle puts the foot ahead of (+x) and below the hip.
     r = leg_vector(np.array([0.7]), np.array([0.2]))[0]
     np.testing.assert_allclose(r, [0.7 * np.sin(0.2), -0.7 * np.cos(0.2)])
     assert r[0] > 0 and r[1] < 0

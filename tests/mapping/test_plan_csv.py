@@ -8,7 +8,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from legbridge.mapping.errors import PlanFormatError
+from legbridge.robots.errors import PlanFormatError
 from legbridge.mapping.readers import read_plan
 
 FILES = Path(__file__).parent / "plan_files"

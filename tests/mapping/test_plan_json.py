@@ -1,5 +1,5 @@
 """JSON plan reader: the good file read exactly, every bad file refused with a message that names
-the file, the key and what was wrong (DESIGN.md: bad input is refused with one clear message)."""
+the file, the key and what was wrong (bad input is refused with one clear message)."""
 
 import math
 from pathlib import Path
@@ -7,7 +7,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from legbridge.mapping.errors import PlanFormatError, PlanScalingError
+from legbridge.robots.errors import PlanFormatError, PlanScalingError
 from legbridge.mapping.readers import events, read_plan
 
 FILES = Path(__file__).parent / "plan_files"
@@ -33,7 +33,7 @@ def test_good_json_values_as_written():
 
 
 def test_axial_force_converted_by_the_leg_angle():
-    # DESIGN.md conventions: hip-to-foot = l (sin a, -cos a); the ground pushes the foot towards the
+    # README conventions: hip-to-foot = l (sin a, -cos a); the ground pushes the foot towards the
     # hip, so F = axial (-sin a, cos a). Hand arithmetic, sample 1: a = 0.2 rad, axial = 300 N:
     # sin 0.2 = 0.198669, cos 0.2 = 0.980067 -> F = (-59.6008, 294.0200) N (foot ahead -> braking).
     step = read_plan(FILES / "good.json").case("step_down_5cm")

@@ -5,7 +5,7 @@ import numpy as np
 import pytest
 import scipy.io
 
-from legbridge.mapping.errors import PlanFormatError
+from legbridge.robots.errors import PlanFormatError
 from legbridge.mapping.readers import read_plan
 
 T = [0.0, 0.05, 0.10, 0.15, 0.20]
@@ -39,7 +39,7 @@ def test_good_npz(tmp_path):
     np.testing.assert_array_equal(plan.cases[0].force_z_n, FZ)
     np.testing.assert_array_equal(plan.cases[0].stance, [False, True, True, True, False])
     assert plan.cases[1].ground_height_m == -0.02
-    # axial 300 N at 0.2 rad -> force_x = -300 sin 0.2 = -59.6008 N (hand arithmetic, DESIGN.md conventions)
+    # axial 300 N at 0.2 rad -> force_x = -300 sin 0.2 = -59.6008 N (hand arithmetic, README conventions)
     assert plan.cases[1].force_x_n[1] == pytest.approx(-59.6008, abs=1e-3)
     assert plan.metadata["scenario"] == "invented" and plan.metadata["model"] == {"stiffness_n_per_m": 2e4}
     assert plan.metadata["mass_kg"] == 25.0

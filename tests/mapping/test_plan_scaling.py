@@ -10,7 +10,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from legbridge.mapping.errors import PlanScalingError
+from legbridge.robots.errors import PlanScalingError
 from legbridge.mapping.readers import read_plan
 
 FILES = Path(__file__).parent / "plan_files"
@@ -32,7 +32,7 @@ def test_nondimensional_csv_against_hand_arithmetic():
     np.testing.assert_allclose(c.leg_length_m[[1, 2]], [0.608, 0.576], rtol=1e-12)
     # angles are not scaled
     np.testing.assert_array_equal(c.leg_angle_rad, [0.25, 0.1, 0.0, -0.1, -0.25])
-    # axial 2.0 body weights = 490.5 N at a = 0.1 rad (DESIGN.md conventions, F = axial (-sin a, cos a)):
+    # axial 2.0 body weights = 490.5 N at a = 0.1 rad (README conventions, F = axial (-sin a, cos a)):
     # sin 0.1 = 0.0998334, cos 0.1 = 0.9950042 -> (-48.96829, 488.04954) N
     assert c.force_x_n[1] == pytest.approx(-48.96829, rel=1e-6)
     assert c.force_z_n[1] == pytest.approx(488.04954, rel=1e-6)

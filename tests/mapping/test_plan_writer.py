@@ -5,7 +5,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from legbridge.mapping.errors import PlanFormatError
+from legbridge.robots.errors import PlanFormatError
 from legbridge.mapping.plan_writer import write_plan
 from legbridge.mapping.readers import read_plan
 from legbridge.robots.errors import OutputExistsError

@@ -107,8 +107,8 @@ def per_sample_motion(traj, robot, settings, idx):
 
 
 def main():
-    from legbridge.limits.check import check_plan, rank_cases
-    from legbridge.limits.results import CheckSettings
+    from legbridge.limits.checks.case import check_plan, rank_cases
+    from legbridge.limits.checks.results import CheckSettings
 
     robot, trajs = load()
     settings = CheckSettings(rate_hz=RATE_HZ)

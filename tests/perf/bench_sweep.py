@@ -17,9 +17,9 @@ import time
 
 import numpy as np
 
-from legbridge.limits.results import CheckSettings
-from legbridge.limits.sweep import offsets_between
-from legbridge.limits.sweep_runner import run_sweep
+from legbridge.limits.checks.results import CheckSettings
+from legbridge.limits.sweep.model import offsets_between
+from legbridge.limits.sweep.runner import run_sweep
 from legbridge.mapping.slip.demo import demo_plan
 
 

@@ -5,7 +5,7 @@ arm (forward kinematics and Jacobian, ch. 3-4; Lagrangian dynamics, ch. 6, "two-
 joint arm"), rewritten for our angle convention: zero = hanging down, positive about +y swings the
 foot backward, so relative to the hip
     x = -L1 sin q1 - L2 sin(q1 + q2),  z = -L1 cos q1 - L2 cos(q1 + q2).
-Gravity g = 9.81 m/s^2 along -z (Pinocchio's default). The leg block of the floating-base mass
+Gravity g = 9.80665 m/s^2 along -z (standard gravity; legbridge sets it on the Pinocchio model). The leg block of the floating-base mass
 matrix is the fixed-base mass matrix (base held fixed); at base pitch 0 the leg gravity torques are
 the fixed-base ones.
 """
@@ -16,7 +16,7 @@ import numpy as np
 import pinocchio as pin
 import pytest
 
-G = 9.81
+G = 9.80665  # standard gravity (3rd CGPM, 1901), the value legbridge gives its Pinocchio model
 
 
 def closed_form(robot, q1, q2):

@@ -1,6 +1,6 @@
 """Every refusal path of the native TOML reader: one clear error naming file and key.
 
-Reference: the reader's contract in robots.toml_reader and DESIGN.md ("bad input is refused with
+Reference: the reader's contract in robots.toml_reader and the README ("bad input is refused with
 one clear message: file, row or key, what was expected, what was found").
 """
 

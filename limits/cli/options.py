@@ -1,0 +1,86 @@
+"""Options shared by the commands, declared and validated once: the same option has the same name,
+meaning and check in every command."""
+
+from __future__ import annotations
+
+import argparse
+
+# Options whose value is a range LO:HI:N that may start with '-' (argparse would take it for an option);
+# --heights (sweep) and --sweep (review) are the names of legbridge 0.1, still accepted, not shown.
+OFFSET_OPTIONS = ("--ground-offsets", "--heights", "--sweep")
+
+
+def add_robot(p, *, required: bool = True) -> None:
+    """--robot ROBOT: a robot description file or the name of a bundled robot."""
+    p.add_argument("--robot", required=required, metavar="ROBOT",
+                   help="robot description (TOML, or TOML naming a URDF), or a bundled robot name (legbridge robot list)")
+
+
+def add_check_options(p) -> None:
+    """--rate, --duration, --margin, --friction, --supply-power, --regen-energy on parser ``p``."""
+    p.add_argument("--rate", type=float, default=1000.0, metavar="HZ", help="controller / export rate [Hz] (default 1000)")
+    p.add_argument("--duration", type=float, default=None, metavar="S",
+                   help="test duration for the thermal model [s], plan repeated (default: one plan period)")
+    p.add_argument("--margin", type=float, default=0.1, metavar="FRACTION",
+                   help="'near' band below each limit as a fraction of it (default 0.1)")
+    p.add_argument("--friction", type=float, default=None, metavar="MU", help="ground friction coefficient (default: robot file)")
+    p.add_argument("--supply-power", type=float, default=None, metavar="W",
+                   help="total electrical power the supply can deliver [W] (default: not checked)")
+    p.add_argument("--regen-energy", type=float, default=None, metavar="J",
+                   help="energy the supply can absorb per step when the motors regenerate [J] (default: reported only)")
+
+
+def add_output(p, help_text: str, *, required: bool = False) -> None:
+    """-o/--output OUT and --force (which replaces earlier outputs, never an input)."""
+    p.add_argument("-o", "--output", required=required, default=None, metavar="OUT", help=help_text)
+    p.add_argument("--force", action="store_true", help="replace outputs that exist (never an input file)")
+
+
+def add_jobs(p) -> None:
+    """--jobs N: local worker processes for sweeps."""
+    p.add_argument("--jobs", type=int, default=None, metavar="N", help="worker processes for the sweep (default: all cores)")
+
+
+def add_ground_offsets(p, help_text: str) -> None:
+    """--ground-offsets LO:HI:N (and the hidden 0.1 names --heights, --sweep)."""
+    p.add_argument("--ground-offsets", dest="ground_offsets", default=None, metavar="LO:HI:N", help=help_text)
+    for old in OFFSET_OPTIONS[1:]:
+        p.add_argument(old, dest="ground_offsets", default=None, help=argparse.SUPPRESS)
+
+
+def settings_from_args(args):
+    """CheckSettings from the shared options (CheckSettings validates the values)."""
+    from legbridge.limits.checks.results import CheckSettings
+
+    return CheckSettings(rate_hz=args.rate, duration_s=args.duration, margin=args.margin, friction=args.friction,
+                         supply_power_w=args.supply_power, regen_energy_j=args.regen_energy)
+
+
+def offsets_from_args(args):
+    """The ground offsets [m] asked for, or None."""
+    if args.ground_offsets is None:
+        return None
+    from legbridge.limits.sweep.model import parse_offsets
+
+    return parse_offsets(args.ground_offsets)
+
+
+def jobs_from_args(args):
+    """The --jobs value, validated (None = all cores)."""
+    from legbridge.limits.sweep.runner import check_jobs
+
+    return check_jobs(args.jobs)
+
+
+def progress_printer(stream, *, quiet: bool = False):
+    """One short line per stage on ``stream`` when it is a terminal, with the elapsed time; None otherwise."""
+    import time
+
+    if quiet or not getattr(stream, "isatty", lambda: False)():
+        return None
+    t0 = time.perf_counter()
+
+    def say(msg: str) -> None:
+        print(f"  [{time.perf_counter() - t0:5.1f} s] {msg}", file=stream, flush=True)
+
+    return say

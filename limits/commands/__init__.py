@@ -1,1 +1,0 @@
-"""The sub-commands of ``legbridge``, one module each (see limits/cli.py)."""

@@ -1,0 +1,401 @@
+"""Figures of the pre-test review, one function per figure (matplotlib, Agg canvas, no pyplot state).
+
+Every function returns a :class:`Figure`: the PNG bytes, the alternative text, and the spans it shaded
+(so tests and readers can see what was marked). Plots are meant to stay readable in print and in
+greyscale: every series has its own line style or marker, flagged spans are hatched as well as tinted.
+Units: time [s], joint angle [rad], joint speed [rad/s], joint torque [N m], force [N], temperature [degC].
+"""
+
+from __future__ import annotations
+
+import io
+from dataclasses import dataclass
+
+import numpy as np
+
+from legbridge.limits.checks import get_limit
+from legbridge.limits.checks.base import PANEL_GROUND
+from legbridge.limits.verdict import Verdict
+
+SEVERITY_EXCEEDS, SEVERITY_NEAR = Verdict.EXCEEDS, Verdict.NEAR
+
+# Our colours (print-friendly, distinct in greyscale by lightness as well as by hue).
+INK = "#1d2a36"
+PLAN = "#24527a"        # planned values
+ALT = "#8a5a00"         # second series / achievable values
+LIMIT = "#7a1f1f"       # limit lines and envelopes
+FILL_EXCEEDS = "#e8b4a8"
+FILL_NEAR = "#f1dca0"
+HATCH = {SEVERITY_EXCEEDS: "////", SEVERITY_NEAR: ".."}
+FILL = {SEVERITY_EXCEEDS: FILL_EXCEEDS, SEVERITY_NEAR: FILL_NEAR}
+LINESTYLES = ("-", "--", "-.", ":", (0, (5, 1, 1, 1, 1, 1)), (0, (1, 2)))
+MARKERS = ("o", "s", "^", "D", "v", "x", "+", "*")
+DPI = 140  # sharp enough for print at the figure sizes used; drawing, not rasterising, sets the time
+
+# Rows of the per-case joint figure: (key, label with unit)
+ROWS = (("angle", "angle [rad]"), ("speed", "speed [rad/s]"), ("torque", "torque [N m]"))
+UNITS = {"angle": "rad", "speed": "rad/s", "torque": "N m"}
+
+
+def scale_limits(lo: float, hi: float, values) -> tuple[float, float, bool]:
+    """y range of a panel: the limit band and the data, but at most one band width beyond each limit.
+
+    Keeps the limit lines readable when a few samples spike far beyond them. Returns (y_lo, y_hi,
+    off_scale) where off_scale says some values lie outside the range returned.
+    """
+    v = np.asarray(values, dtype=float)
+    v = v[np.isfinite(v)]
+    width = hi - lo if hi > lo else max(abs(hi), abs(lo), 1.0)
+    dmin = float(v.min()) if v.size else lo
+    dmax = float(v.max()) if v.size else hi
+    cap_lo, cap_hi = lo - width, hi + width
+    ylo, yhi = max(min(lo, dmin), cap_lo), min(max(hi, dmax), cap_hi)
+    pad = 0.06 * (yhi - ylo)
+    return ylo - pad, yhi + pad, bool(dmin < ylo - pad or dmax > yhi + pad)
+
+
+@dataclass(frozen=True)
+class Shade:
+    """One span drawn shaded: which panel (joint, row), the time span [s] and the severity."""
+
+    joint: str
+    row: str
+    t_start_s: float
+    t_end_s: float
+    severity: str
+    limit: str
+
+
+@dataclass(frozen=True)
+class Figure:
+    """A rendered figure: PNG bytes, alternative text and the spans it shaded."""
+
+    name: str
+    png: bytes
+    alt: str
+    shaded: tuple[Shade, ...] = ()
+    notes: tuple[str, ...] = ()
+
+
+def row_for_limit(limit: str) -> str | None:
+    """The joint-figure row a limit's flagged spans are drawn in ('angle', 'speed', 'torque'), as its
+    check declares (Limit.panel); None when it is drawn in no joint row (ground force, whole robot)."""
+    panel = get_limit(limit).panel
+    return panel if panel in ("angle", "speed", "torque") else None
+
+
+def is_ground_limit(limit: str) -> bool:
+    """Limits drawn on the ground-force figure (Limit.panel == PANEL_GROUND)."""
+    return get_limit(limit).panel == PANEL_GROUND
+
+
+def _new_figure(width_in: float, height_in: float, *, left=0.75, right=0.15, top=0.5, bottom=0.5,
+                wspace=0.28, hspace=0.22):
+    """A figure with fixed margins in inches (a fixed layout renders about twice as fast as a solver)."""
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure as MplFigure
+
+    fig = MplFigure(figsize=(width_in, height_in), dpi=DPI)
+    FigureCanvasAgg(fig)
+    fig.subplots_adjust(left=left / width_in, right=1 - right / width_in, top=1 - top / height_in,
+                        bottom=bottom / height_in, wspace=wspace, hspace=hspace)
+    return fig
+
+
+def _style_axes(ax) -> None:
+    ax.grid(True, color="#c9ced3", linewidth=0.6, linestyle="-")
+    ax.set_axisbelow(True)
+    ax.tick_params(labelsize=8, colors=INK)
+    for sp in ax.spines.values():
+        sp.set_color("#6b7680")
+    ax.xaxis.label.set_size(8.5)
+    ax.yaxis.label.set_size(8.5)
+    ax.title.set_size(9)
+
+
+def _png(fig) -> bytes:
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png", dpi=DPI, facecolor="white")
+    return buf.getvalue()
+
+
+def merge_spans(spans, gap_s: float) -> list[tuple[float, float, str]]:
+    """Union of (t0, t1, limit) spans [s]; spans closer than ``gap_s`` join (their limits are listed)."""
+    out: list[list] = []
+    for t0, t1, lim in sorted(spans):
+        if out and t0 <= out[-1][1] + gap_s:
+            out[-1][1] = max(out[-1][1], t1)
+            if lim not in out[-1][2]:
+                out[-1][2].append(lim)
+        else:
+            out.append([t0, t1, [lim]])
+    return [(a, b, ", ".join(lims)) for a, b, lims in out]
+
+
+def _shade(panels: dict, items, dt: float, min_width_s: float = 0.0) -> tuple[Shade, ...]:
+    """Shade flagged spans: items are ((joint, row), t0, t1, severity, limit); panels map (joint, row) -> axes.
+
+    Spans of one panel and severity are merged and drawn as one hatched collection (fast to render);
+    every span is drawn at least ``min_width_s`` wide [s] (and half a sample beyond each end) so a
+    one-sample spike stays visible on a long time axis.
+    """
+    groups: dict = {}
+    for key, t0, t1, sev, lim in items:
+        groups.setdefault((key, sev), []).append((float(t0), float(t1), lim))
+    shades: list[Shade] = []
+    for ((joint, row), sev), spans in sorted(groups.items(), key=lambda kv: kv[0][1] == SEVERITY_EXCEEDS):
+        merged = merge_spans(spans, 1.5 * dt)
+        ax = panels[(joint, row)]
+        bars = []
+        for a, b, _ in merged:
+            w = max(b - a + dt, min_width_s)
+            bars.append(((a + b) / 2 - w / 2, w))
+        ax.broken_barh(bars, (0, 1), transform=ax.get_xaxis_transform(),
+                       facecolors=FILL.get(sev, FILL_EXCEEDS), edgecolors=LIMIT, hatch=HATCH.get(sev, "xx"),
+                       linewidth=0.0, alpha=0.55, zorder=0.2 if sev == SEVERITY_EXCEEDS else 0.1)  # exceeds over near
+        shades.extend(Shade(joint, row, a, b, sev, lim) for a, b, lim in merged)
+    return tuple(shades)
+
+
+def _legend_for_shading(fig, severities: set[str], extra=()) -> None:
+    from matplotlib.patches import Patch
+
+    handles = list(extra)
+    if SEVERITY_EXCEEDS in severities:
+        handles.append(Patch(facecolor=FILL_EXCEEDS, edgecolor=LIMIT, hatch=HATCH[SEVERITY_EXCEEDS], label="exceeds a limit"))
+    if SEVERITY_NEAR in severities:
+        handles.append(Patch(facecolor=FILL_NEAR, edgecolor=LIMIT, hatch=HATCH[SEVERITY_NEAR], label="near a limit"))
+    if handles:
+        fig.legend(handles=handles, loc="lower center", bbox_to_anchor=(0.5, 0.0), ncols=min(len(handles), 3),
+                   fontsize=7.5, frameon=False)
+
+
+def _dt(time_s: np.ndarray) -> float:
+    return float(np.median(np.diff(time_s))) if time_s.size > 1 else 0.0
+
+
+def case_joints_figure(review, robot) -> Figure:
+    """Joint angle, speed and torque of one case against time, with limit bands and flagged spans.
+
+    Rows: angle [rad] with the hard stops; speed [rad/s] with +-max_joint_speed; torque [N m] with
+    +-max_joint_torque (static peak) and the voltage-envelope torque bounds at the planned speed
+    (dashed). Columns: joints. Segments of the case are shaded in their joint's column (all columns
+    for whole-leg limits) and in the row of their limit (all rows when the limit has no row).
+    """
+    from legbridge.robots.actuator_limits import joint_torque_limits_nm, max_joint_speed, max_joint_torque
+
+    traj = review.trajectory
+    t = np.asarray(traj.time_s, dtype=float)
+    names = tuple(traj.joint_names)
+    nj = len(names)
+    fig = _new_figure(2.9 * nj + 0.6, 6.0, bottom=1.05, top=0.55)
+    axes = fig.subplots(3, nj, sharex=True, squeeze=False)
+    dt = _dt(t)
+    severities: set[str] = set()
+    notes: list[str] = []
+    for j, name in enumerate(names):
+        joint = robot.joint(name)
+        act = joint.actuator
+        series = {"angle": traj.q[:, j], "speed": traj.qd[:, j], "torque": traj.tau[:, j]}
+        vmax = max_joint_speed(joint).value
+        tmax = max_joint_torque(joint).value
+        lo_v, hi_v, _ = joint_torque_limits_nm(joint, traj.qd[:, j], traj.qdd[:, j], voltage=True)
+        bands = {"angle": (joint.lower_rad, joint.upper_rad), "speed": (-vmax, vmax), "torque": (-tmax, tmax)}
+        for r, (key, label) in enumerate(ROWS):
+            ax = axes[r, j]
+            _style_axes(ax)
+            lo, hi = bands[key]
+            ax.axhline(lo, color=LIMIT, linewidth=1.8, linestyle="-")
+            ax.axhline(hi, color=LIMIT, linewidth=1.8, linestyle="-")
+            if key == "torque":
+                # only where the speed makes the bound tighter than the static peak torque (drawn solid)
+                ax.plot(t, np.where(hi_v < tmax, hi_v, np.nan), color=LIMIT, linewidth=1.0, linestyle="--")
+                ax.plot(t, np.where(lo_v > -tmax, lo_v, np.nan), color=LIMIT, linewidth=1.0, linestyle="--")
+            ax.plot(t, series[key], color=PLAN, linewidth=1.3)
+            y = series[key][np.isfinite(series[key])]
+            if key == "torque":  # the envelope lines are part of what the reader compares against
+                env = np.concatenate([hi_v, lo_v])
+                env = env[np.isfinite(env) & (np.abs(env) <= tmax)]
+                y = np.concatenate([y, env])
+            ylo, yhi, off = scale_limits(lo, hi, y)
+            ax.set_ylim(ylo, yhi)
+            if off:
+                v = series[key]
+                above, below = v > yhi, v < ylo
+                ax.plot(t[above], np.full(int(above.sum()), yhi), linestyle="none", marker="^", markersize=4,
+                        color=INK, clip_on=False)
+                ax.plot(t[below], np.full(int(below.sum()), ylo), linestyle="none", marker="v", markersize=4,
+                        color=INK, clip_on=False)
+                vmin, vmax_ = float(np.nanmin(v)), float(np.nanmax(v))
+                notes.append(f"{name} {key}: values from {vmin:.4g} to {vmax_:.4g} {UNITS[key]} reach beyond the plotted "
+                             f"scale; the triangles at the panel edge mark those samples.")
+            if j == 0:
+                ax.set_ylabel(label)
+            if r == 0:
+                ax.set_title(f"{name}")
+            if r == 2:
+                ax.set_xlabel("time [s]")
+    items = []
+    for seg in review.segments:
+        row = row_for_limit(seg.limit)
+        if row is None:  # drawn on the force figure, or listed in the tables only
+            continue
+        cols = [names.index(seg.joint)] if seg.joint in names else range(nj)
+        items.extend(((names[c], row), seg.t_start_s, seg.t_end_s, seg.severity, seg.limit) for c in cols)
+        severities.add(seg.severity)
+    panels = {(names[c], k): axes[r, c] for c in range(nj) for r, (k, _) in enumerate(ROWS)}
+    shaded = _shade(panels, items, dt, 0.006 * float(t[-1] - t[0]) if t.size else 0.0)
+    from matplotlib.lines import Line2D
+
+    extra = [
+        Line2D([], [], color=PLAN, linewidth=1.3, label="planned"),
+        Line2D([], [], color=LIMIT, linewidth=1.8, label="limit: stops, max speed, peak torque"),
+        Line2D([], [], color=LIMIT, linewidth=0.9, linestyle="--", label="voltage-limited torque at planned speed"),
+    ]
+    _legend_for_shading(fig, severities, extra)
+    fig.suptitle(f"Case {review.case}: joint targets against the modelled limits", fontsize=10, color=INK)
+    alt = (f"Joint angle, speed and torque of case {review.case} against time for joints {', '.join(names)}, "
+           f"with limit lines; {len(review.segments)} flagged segment(s) shaded.")
+    return Figure(f"case-{review.case}-joints", _png(fig), alt, tuple(shaded), tuple(notes))
+
+
+def _achievable_force(review) -> tuple[np.ndarray | None, str]:
+    """The force-feasibility QP's closest achievable ground force (n, 2) [N], or None and why."""
+    qp = review.force_qp
+    if qp is None:
+        return None, "the force-feasibility QP was not run for this case"
+    if not qp.ok:
+        return None, f"the force-feasibility QP did not solve (status '{qp.status}'); achievable force not shown"
+    return np.asarray(qp.values["force_n"], dtype=float), ""
+
+
+def case_force_figure(review, robot, friction: float | None = None) -> Figure:
+    """Ground force of one case: planned (x, z) [N] against the QP's achievable force and the friction cone.
+
+    Whole-leg segments (joint '') and force or friction limits are shaded.
+    """
+    traj = review.trajectory
+    t = np.asarray(traj.time_s, dtype=float)
+    f = np.asarray(traj.foot_force_n, dtype=float)
+    mu = robot.ground_friction if friction is None else friction
+    ach, why = _achievable_force(review)
+    fig = _new_figure(7.2, 3.5, bottom=1.05, top=0.55, left=0.8)
+    ax_z, ax_x = fig.subplots(1, 2, sharex=True)
+    for ax in (ax_z, ax_x):
+        _style_axes(ax)
+        ax.set_xlabel("time [s]")
+    ax_z.plot(t, f[:, 1], color=PLAN, linewidth=1.4, label="planned")
+    ax_x.plot(t, f[:, 0], color=PLAN, linewidth=1.4, label="planned")
+    fz_pos = np.maximum(f[:, 1], 0.0)
+    ax_x.plot(t, mu * fz_pos, color=LIMIT, linewidth=1.0, linestyle="-", label=f"friction cone, mu = {mu:g}")
+    ax_x.plot(t, -mu * fz_pos, color=LIMIT, linewidth=1.0, linestyle="-")
+    if ach is not None and ach.shape[0] == t.shape[0]:
+        ax_z.plot(t, ach[:, 1], color=ALT, linewidth=1.2, linestyle="--", label="achievable (QP)")
+        ax_x.plot(t, ach[:, 0], color=ALT, linewidth=1.2, linestyle="--", label="achievable (QP)")
+    ax_z.set_ylabel("vertical force F_z [N]")
+    ax_x.set_ylabel("horizontal force F_x [N]")
+    ax_z.set_title("vertical", fontsize=9)
+    ax_x.set_title("horizontal", fontsize=9)
+    dt = _dt(t)
+    severities: set[str] = set()
+    items = []
+    for seg in review.segments:
+        if is_ground_limit(seg.limit):
+            items.extend((("", row), seg.t_start_s, seg.t_end_s, seg.severity, seg.limit) for row in ("force_z", "force_x"))
+            severities.add(seg.severity)
+    shaded = _shade({("", "force_z"): ax_z, ("", "force_x"): ax_x}, items, dt, 0.006 * float(t[-1] - t[0]) if t.size else 0.0)
+    handles, _ = ax_x.get_legend_handles_labels()
+    _legend_for_shading(fig, severities, handles)
+    fig.suptitle(f"Case {review.case}: ground force on the foot", fontsize=10, color=INK)
+    notes = (why,) if why else ()
+    alt = f"Planned ground force of case {review.case} against time, with the friction cone" + (
+        " and the achievable force from the QP." if not why else f"; {why}.")
+    return Figure(f"case-{review.case}-force", _png(fig), alt, tuple(shaded), notes)
+
+
+def torque_speed_figure(reviews, robot, joint_name: str) -> Figure:
+    """Torque-speed plane of one joint: voltage and current envelope, peak and continuous torque, every case.
+
+    x: joint speed [rad/s]; y: joint torque [N m]. The envelope is robots.actuator_limits.envelope_polygon
+    (steady speed: the rotor-inertia term is not in it); each case's samples are drawn with their own marker.
+    """
+    from legbridge.robots.actuator_limits import continuous_joint_torque_nm, envelope_polygon, max_joint_torque
+
+    joint = robot.joint(joint_name)
+    act = joint.actuator
+    fig = _new_figure(6.0, 4.0, right=2.0, top=0.4, bottom=0.55)
+    ax = fig.subplots()
+    _style_axes(ax)
+    sp, tq = envelope_polygon(act)
+    ax.fill(sp, tq, facecolor="#eef1f4", edgecolor="none", zorder=0)
+    ax.plot(sp, tq, color=LIMIT, linewidth=1.4, label="voltage and current envelope")
+    tmax = max_joint_torque(joint).value
+    tcont = continuous_joint_torque_nm(act)
+    for s in (1, -1):
+        ax.axhline(s * tmax, color=LIMIT, linewidth=0.9, linestyle="--", label="peak torque" if s > 0 else None)
+        ax.axhline(s * tcont, color=INK, linewidth=0.9, linestyle=":", label="continuous torque" if s > 0 else None)
+    for k, rv in enumerate(reviews):
+        traj = rv.trajectory
+        if joint_name not in traj.joint_names:
+            continue
+        j = list(traj.joint_names).index(joint_name)
+        step = max(1, traj.n_samples // 600)  # a few hundred points per case are enough to see the shape
+        ax.plot(traj.qd[::step, j], traj.tau[::step, j], linestyle="none", marker=MARKERS[k % len(MARKERS)],
+                markersize=3.2, markerfacecolor="none", markeredgewidth=0.8,
+                color=(PLAN, ALT, INK, "#4f7d4f")[k % 4], label=f"case {rv.case}")
+    # keep the envelope readable when a few samples spike far outside it; say how many are off scale
+    smax, tq_max = float(np.max(np.abs(sp))), max(float(np.max(np.abs(tq))), tmax)
+    xlim, ylim = 1.6 * smax, 2.0 * tq_max
+    ax.set_xlim(-xlim, xlim)
+    ax.set_ylim(-ylim, ylim)
+    notes = []
+    for rv in reviews:
+        if joint_name in rv.trajectory.joint_names:
+            j = list(rv.trajectory.joint_names).index(joint_name)
+            qd, tau = rv.trajectory.qd[:, j], rv.trajectory.tau[:, j]
+            n_off = int(np.count_nonzero((np.abs(qd) > xlim) | (np.abs(tau) > ylim)))
+            if n_off:
+                notes.append(f"case {rv.case}: {n_off} of {rv.trajectory.n_samples} samples of {joint_name} lie beyond the "
+                             f"plotted range (|speed| > {xlim:.3g} rad/s or |torque| > {ylim:.4g} N m), peak |torque| "
+                             f"{float(np.nanmax(np.abs(tau))):.4g} N m.")
+    ax.set_xlabel("joint speed [rad/s]")
+    ax.set_ylabel("joint torque [N m]")
+    ax.set_title(f"{joint_name}: torque-speed plane", color=INK)
+    fig.legend(loc="center right", bbox_to_anchor=(1.0, 0.5), fontsize=7.5, frameon=False)
+    alt = f"Torque against speed of joint {joint_name} for every case, inside the motor's voltage and current envelope."
+    return Figure(f"joint-{joint_name}-torque-speed", _png(fig), alt, (), tuple(notes))
+
+
+def thermal_figure(reviews, robot, duration_s: float | None) -> Figure:
+    """Winding temperature [degC] of every joint over the test duration [s], against its limit.
+
+    One panel per joint; one line style per case.
+    """
+    names = robot.joint_names
+    nj = len(names)
+    fig = _new_figure(2.9 * nj + 0.6, 3.4, bottom=1.0, top=0.55)
+    axes = fig.subplots(1, nj, squeeze=False)[0]
+    notes: list[str] = []
+    for j, name in enumerate(names):
+        ax = axes[j]
+        _style_axes(ax)
+        th = robot.joint(name).actuator.thermal
+        ax.axhline(th.max_winding_temp_c, color=LIMIT, linewidth=2.6, label="winding limit" if j == 0 else None)
+        ax.axhline(th.ambient_temp_c, color="#6b7680", linewidth=0.8, linestyle=":", label="ambient" if j == 0 else None)
+        for k, rv in enumerate(reviews):
+            th = rv.thermal
+            if name not in th.joint_names:
+                continue
+            col = th.winding_temp_c[:, th.joint_names.index(name)]
+            ax.plot(th.time_s, col, color=(PLAN, ALT, INK, "#4f7d4f")[k % 4],
+                    linestyle=LINESTYLES[k % len(LINESTYLES)], linewidth=1.3, label=f"case {rv.case}" if j == 0 else None)
+        ax.set_title(name)
+        ax.set_xlabel("time [s]")
+        if j == 0:
+            ax.set_ylabel("winding temperature [degC]")
+        if duration_s:
+            ax.set_xlim(0.0, duration_s)
+    fig.legend(loc="lower center", bbox_to_anchor=(0.5, 0.0), ncols=3, fontsize=7.5, frameon=False)
+    fig.suptitle("Winding temperature over the test duration", fontsize=10, color=INK)
+    alt = "Winding temperature of each joint against time over the test duration, with its limit."
+    return Figure("thermal", _png(fig), alt, (), tuple(notes))

@@ -1,0 +1,160 @@
+"""The one-step review written to a folder: review.json, the joint targets, report.html and, when the
+review swept the ground height, sweep.csv and sweep.json.
+
+    run_review(plan, robot, settings, out_dir, *, force=False, ...) -> ReviewRun
+    run_demo_review(settings, out_dir, *, force=False, ...) -> ReviewRun
+
+Every input is read and every case checked before anything is written; the output folder is checked
+first (a file, previous outputs without ``force``, an output that would replace an input: refused
+before any work). Outputs are produced in a staging folder inside ``out_dir`` and moved into place
+with os.replace, so a failure leaves the folder as it was.
+"""
+
+from __future__ import annotations
+
+import os
+import shutil
+import tempfile
+import time
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from legbridge.limits.checks.results import CheckSettings
+from legbridge.robots.files import check_output_folder, json_text
+
+from .review import SWEEP_AUTO, Progress, Review, build_review
+
+REVIEW_JSON = "review.json"
+REPORT_HTML = "report.html"
+TARGETS_FILE = "targets.csv"
+SWEEP_CSV = "sweep.csv"
+SWEEP_JSON = "sweep.json"
+DEMO_PLAN = "demo-plan.json"
+DEMO_ROBOT = "lab-biped-leg"
+
+OUTPUT_NAMES = {"review": REVIEW_JSON, "targets": TARGETS_FILE, "report": REPORT_HTML,
+                "sweep_csv": SWEEP_CSV, "sweep_json": SWEEP_JSON}
+
+
+@dataclass(frozen=True, eq=False)
+class ReviewRun:
+    """A review and where it was written: paths maps output kind ('review', 'targets', 'report',
+    'sweep_csv', 'sweep_json', 'plan' for the demo) to the file; elapsed_s: wall time [s]."""
+
+    review: Review
+    paths: dict = field(default_factory=dict)
+    elapsed_s: float = 0.0
+
+    @property
+    def exit_code(self) -> int:
+        return self.review.exit_code
+
+
+def _publish(staging: Path, out: Path) -> dict[str, Path]:
+    """Move every file of ``staging`` into ``out`` (os.replace: each one appears whole or not at all)."""
+    moved = {}
+    for entry in sorted(staging.iterdir()):
+        dest = out / entry.name
+        os.replace(entry, dest)
+        moved[entry.name] = dest
+    return moved
+
+
+def render_outputs(review: Review) -> dict[str, str | bytes]:
+    """File name -> content of every output of ``review`` (nothing written)."""
+    from legbridge.mapping.targets_export import targets_bytes
+
+    from .json_doc import review_to_json
+    from .report import render_report
+
+    files: dict[str, str | bytes] = {
+        REVIEW_JSON: json_text(review_to_json(review)),
+        REPORT_HTML: render_report(review),
+        TARGETS_FILE: targets_bytes(review.trajectories, TARGETS_FILE, plan=review.plan, robot=review.robot,
+                                    rate_hz=review.settings.rate_hz, provenance=review.provenance),
+    }
+    if review.sweep is not None:
+        from legbridge.limits.sweep.table import to_csv_text, to_json_doc
+
+        files[SWEEP_CSV] = to_csv_text([review.sweep])
+        files[SWEEP_JSON] = json_text(to_json_doc([review.sweep], review.provenance))
+    return files
+
+
+def write_review(review: Review, out_dir, *, force: bool = False, inputs=()) -> dict[str, Path]:
+    """Write every output of ``review`` into ``out_dir`` (created if missing), all or nothing; returns
+    output kind -> path."""
+    out = check_output_folder(out_dir, tuple(OUTPUT_NAMES.values()), inputs=inputs, force=force)
+    files = render_outputs(review)
+    created_dir = not out.exists()
+    out.mkdir(parents=True, exist_ok=True)
+    staging = Path(tempfile.mkdtemp(prefix=".legbridge-staging-", dir=str(out)))
+    try:
+        for name, content in files.items():
+            (staging / name).write_bytes(content.encode("utf-8") if isinstance(content, str) else content)
+        _publish(staging, out)
+    except BaseException:
+        shutil.rmtree(staging, ignore_errors=True)
+        if created_dir and not any(out.iterdir()):
+            out.rmdir()
+        raise
+    shutil.rmtree(staging, ignore_errors=True)
+    return {kind: out / name for kind, name in OUTPUT_NAMES.items() if name in files}
+
+
+def _inputs(plan, robot) -> tuple:
+    ins = []
+    for x in (plan, robot):
+        if isinstance(x, (str, os.PathLike)):
+            ins.append(Path(x))
+        else:
+            src = getattr(x, "path", None) or getattr(x, "source", None)
+            if src and Path(str(src)).is_file():
+                ins.append(Path(str(src)))
+    return tuple(ins)
+
+
+def run_review(plan, robot, settings: CheckSettings | None, out_dir, *, force: bool = False,
+               progress: Progress | None = None, created: str | None = None, sweep=SWEEP_AUTO,
+               jobs: int | None = None) -> ReviewRun:
+    """Review ``plan`` (Plan or plan file) on ``robot`` (Robot, description file or bundled robot name)
+    into ``out_dir``: build_review, then write_review. Raises a LegbridgeError subclass on bad input
+    (nothing written) and OutputExistsError when ``out_dir`` holds previous outputs and ``force`` is
+    False. sweep: SWEEP_AUTO (default grid when the plan carries a policy), None, or offsets [m];
+    jobs: sweep worker processes (default all cores). The sweep informs; the exit code speaks of the
+    plan's own cases."""
+    t0 = time.perf_counter()
+    inputs = _inputs(plan, robot)
+    check_output_folder(out_dir, tuple(OUTPUT_NAMES.values()), inputs=inputs, force=force)  # before any work
+    review = build_review(plan, robot, settings, sweep=sweep, jobs=jobs, progress=progress, created=created)
+    (progress or (lambda _m: None))("writing the review, the targets and the report")
+    paths = write_review(review, out_dir, force=force, inputs=inputs)
+    return ReviewRun(review, paths, time.perf_counter() - t0)
+
+
+def run_demo_review(settings: CheckSettings | None, out_dir, *, force: bool = False, progress: Progress | None = None,
+                    created: str | None = None, sweep=SWEEP_AUTO, jobs: int | None = None) -> ReviewRun:
+    """Review the shipped demo plan (invented data; the same bytes as examples/demo-hop-plan.json) on
+    the bundled demo robot. The plan is first copied to ``out_dir/demo-plan.json`` so the review
+    records a real file and its SHA-256; the copy is removed again if the review fails."""
+    from legbridge.mapping.slip.demo import shipped_demo_plan_path
+    from legbridge.robots.files import write_atomic
+
+    out = check_output_folder(out_dir, tuple(OUTPUT_NAMES.values()) + (DEMO_PLAN,), force=force)
+    (progress or (lambda _m: None))("copying the demo plan (invented data)")
+    created_dir = not out.exists()
+    out.mkdir(parents=True, exist_ok=True)
+    plan_path = write_atomic(out / DEMO_PLAN, shipped_demo_plan_path().read_bytes(), force=force)
+    try:
+        run = run_review(plan_path, DEMO_ROBOT, settings, out, force=True, progress=progress, created=created,
+                         sweep=sweep, jobs=jobs)
+    except BaseException:
+        plan_path.unlink(missing_ok=True)
+        if created_dir and not any(out.iterdir()):
+            out.rmdir()
+        raise
+    return ReviewRun(run.review, dict(run.paths, plan=Path(plan_path)), run.elapsed_s)
+
+
+__all__ = ["DEMO_PLAN", "OUTPUT_NAMES", "REPORT_HTML", "REVIEW_JSON", "ReviewRun", "SWEEP_CSV", "SWEEP_JSON",
+           "TARGETS_FILE", "render_outputs", "run_demo_review", "run_review", "write_review"]

@@ -1,0 +1,112 @@
+"""The terminal summary of a Review (``legbridge check`` and ``legbridge review`` print the same one).
+
+No colour, never the word 'safe'; utilisations through limits.verdict.utilisation_text, so the
+terminal, the JSON and the report agree to the digit.
+"""
+
+from __future__ import annotations
+
+from legbridge.limits.cautions import caution_lines
+from legbridge.limits.verdict import Verdict, joint_label, utilisation_text
+
+from .review import Review
+
+
+def worst_segments(review: Review, n: int = 5) -> list:
+    """The n worst segments over all cases (exceeds before near, then utilisation), one per (joint, limit)."""
+    segs = [s for c in review.cases for s in c.segments]
+    segs.sort(key=lambda s: (s.severity != Verdict.EXCEEDS, -s.utilisation, s.t_start_s))
+    seen, out = set(), []
+    for s in segs:
+        if (s.joint, s.limit) not in seen:
+            seen.add((s.joint, s.limit))
+            out.append(s)
+    return out[:n]
+
+
+def identity_lines(review: Review, command: str) -> list[str]:
+    """What was reviewed: plan and its hash, robot, rate, margin, duration, scaling."""
+    plan, robot, st = review.plan, review.robot, review.settings
+    sha = getattr(plan, "sha256", "") or ""
+    out = [f"legbridge {command}: plan {plan.path}" + (f" (SHA-256 {sha[:12]}...)" if sha else "")
+           + f" on robot {robot.name}: {len(review.cases)} case(s) at {st.rate_hz:g} Hz, margin {100 * st.margin:g} %"]
+    scaling = getattr(plan, "scaling", None)
+    if scaling is not None:
+        out.append(f"  {scaling.describe()}")
+    return out
+
+
+def case_lines(review: Review) -> list[str]:
+    """One line per case (verdict, worst limit, segment counts) and what could not be evaluated."""
+    width = max((len(c.case) for c in review.cases), default=4)
+    out = []
+    for c in review.cases:
+        s = c.summary
+        w = s.worst
+        worst = f"worst {w.text}" if w else "worst: nothing evaluated"
+        out.append(f"  {c.case:<{width}}  {s.verdict.words:<26} {worst}; segments: {s.n_exceeds} exceeding, "
+                   f"{s.n_near} near")
+        for f in c.findings:
+            out.append(f"  {'':<{width}}  could not be evaluated: {f}")
+        for j, t in c.thermal.time_to_limit_s.items():
+            if t is not None:
+                out.append(f"  {'':<{width}}  {j} winding reaches its temperature limit after {t:.1f} s")
+    return out
+
+
+def finding_lines(review: Review) -> list[str]:
+    """The ranking and the worst segments."""
+    out = []
+    if len(review.cases) > 1:
+        out.append("Ranking, worst first: " + ", ".join(
+            f"{c.case} ({c.summary.worst.text})" if c.summary.worst else c.case for c in review.ranked))
+    segs = worst_segments(review)
+    if segs:
+        out.append("Worst findings (the worst segment of each limit and joint):")
+        for s in segs:
+            out.append(f"  {s.case} / {joint_label(s.joint)} / {s.limit}: {s.severity.value}, "
+                       f"{s.t_start_s:.3f}-{s.t_end_s:.3f} s, peak {s.peak:.4g} {s.unit} against {s.allowed:.4g} {s.unit}, "
+                       f"utilisation {utilisation_text(s.utilisation)}")
+    else:
+        out.append("No segment of any case is near or beyond a modelled limit.")
+    bad = [c.case for c in review.cases if not c.passed]
+    if bad:
+        out.append(f"{len(bad)} of {len(review.cases)} case(s) exceed a modelled limit or could not be evaluated: "
+                   f"{', '.join(bad)}")
+    else:
+        out.append(f"Every case is {Verdict.WITHIN.words} (or near one).")
+    return out
+
+
+def sweep_lines(review: Review) -> list[str]:
+    """The ground-height sweep's window in two lines, or why there is none."""
+    sw = review.sweep
+    if sw is None:
+        return [f"Note: {review.sweep_note}"] if review.sweep_note else []
+    w = sw.window
+    return [f"Ground-height sweep ({len(sw.offsets)} offsets, reduced model re-simulated): "
+            + ("no offset around zero completes within the modelled limits" if w.empty else
+               f"window {w.lo_m:+.4f} m to {w.hi_m:+.4f} m within the modelled limits"),
+            f"  below: {w.below.text}", f"  above: {w.above.text}"]
+
+
+def review_lines(review: Review, *, command: str = "review", paths: dict | None = None) -> list[str]:
+    """The whole terminal summary: identity, cases, findings, sweep, output paths, caution text."""
+    lines = identity_lines(review, command) + [""] + case_lines(review) + [""] + finding_lines(review)
+    sw = sweep_lines(review)
+    if sw:
+        lines += [""] + sw
+    if paths:
+        lines.append("")
+        labels = {"report": "Report", "review": "Results", "targets": "Targets", "sweep_csv": "Sweep table",
+                  "sweep_json": "Sweep results", "plan": "Plan", "modified": "MODIFIED targets"}
+        for key, p in paths.items():
+            extra = " (demo plan, invented data)" if key == "plan" else (
+                " (nearest feasible motion, NOT the plan)" if key == "modified" else "")
+            lines.append(f"{labels.get(key, key) + ':':<15}{p}{extra}")
+    lines.append("")
+    lines += caution_lines()
+    return lines
+
+
+__all__ = ["case_lines", "finding_lines", "identity_lines", "review_lines", "sweep_lines", "worst_segments"]

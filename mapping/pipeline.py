@@ -1,0 +1,71 @@
+"""The one way from inputs to joint trajectories: read a plan against a robot and translate it.
+
+    prepare(plan, robot, *, rate_hz, cases=None, leg_model=None) -> Prepared
+
+Every command, the review and every sweep worker go through :func:`prepare`. ``plan`` is a Plan or a
+plan file path; ``robot`` a Robot (e.g. built in code), a robot description path or a bundled robot
+name. Bad input raises a LegbridgeError subclass before anything is translated.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+from dataclasses import dataclass
+
+from legbridge.robots.errors import UsageError
+from legbridge.robots.library import as_robot
+from legbridge.robots.robot import Robot
+
+from .joint_trajectory import JointTrajectory
+from .plan import Plan
+
+
+@dataclass(frozen=True, eq=False)
+class Prepared:
+    """A plan, the robot it was read against, and its cases translated at ``rate_hz`` [Hz]."""
+
+    plan: Plan
+    robot: Robot
+    trajectories: tuple[JointTrajectory, ...]
+    rate_hz: float
+
+    def __repr__(self) -> str:
+        return (f"Prepared(plan={self.plan.path!r}, robot={self.robot.name!r}, cases={len(self.trajectories)}, "
+                f"rate_hz={self.rate_hz:g})")
+
+
+def check_rate(rate_hz) -> float:
+    """The controller rate [Hz] as a float; UsageError unless it is a finite positive number."""
+    try:
+        r = float(rate_hz)
+    except (TypeError, ValueError):
+        r = math.nan
+    if isinstance(rate_hz, bool) or not (math.isfinite(r) and r > 0):
+        raise UsageError("bad controller rate", key="rate_hz", expected="a positive rate in Hz", found=rate_hz)
+    return r
+
+
+def read_against(plan, robot: Robot) -> Plan:
+    """A Plan as given, or the plan file read and scaled against ``robot``."""
+    if isinstance(plan, Plan):
+        return plan
+    if isinstance(plan, (str, os.PathLike)):
+        from .readers import read_plan
+
+        return read_plan(plan, robot=robot)
+    raise UsageError("not a plan", key="plan", expected="a Plan or a plan file path", found=type(plan).__name__)
+
+
+def prepare(plan, robot, *, rate_hz: float, cases=None, leg_model=None) -> Prepared:
+    """Read ``plan`` against ``robot`` and translate its cases (or the named ``cases``) at ``rate_hz``."""
+    rate = check_rate(rate_hz)
+    robot = as_robot(robot)
+    plan = read_against(plan, robot)
+    from .translate import translate_plan
+
+    trajs = translate_plan(plan, robot, rate_hz=rate, cases=cases, leg_model=leg_model)
+    return Prepared(plan, robot, tuple(trajs), rate)
+
+
+__all__ = ["Prepared", "check_rate", "prepare", "read_against"]
