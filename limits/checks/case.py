@@ -15,7 +15,7 @@ import numpy as np
 from legbridge.limits.verdict import summarise
 from legbridge.mapping.joint_trajectory import FLAG_NAMES
 
-from . import all_limits
+from legbridge.limits import checks as registry
 from . import thermal as thermal_model
 from .base import CheckContext
 from .regen_energy import step_regen_energy_j
@@ -54,7 +54,7 @@ def check_case(traj, robot, settings: CheckSettings | None = None) -> CaseReview
     mu = float(settings.friction if settings.friction is not None else robot.ground_friction)
     th = thermal_model.simulate(traj, robot, settings.duration_s)
     ctx = CheckContext(traj, robot, settings, mu, th)
-    traces = tuple(t for lim in all_limits() for t in lim.evaluate(ctx))
+    traces = tuple(t for lim in registry.all_limits() for t in lim.evaluate(ctx))
     findings = _flag_findings(traj)
     segments = []
     for tr in traces:

@@ -52,7 +52,7 @@ import numpy as np
 from legbridge.robots.files import json_ready, write_json as _write_json
 
 from ..cautions import CAUTIONS
-from ..checks import all_limits
+from .. import checks as registry
 from .review import Review
 
 SCHEMA_VERSION = "legbridge.review/1"
@@ -139,7 +139,7 @@ def review_to_json(review: Review) -> dict:
         "robot_sha256": robot.sha256 or None,
         "settings": asdict(review.settings),
         "cautions": list(CAUTIONS),
-        "limits": [{"name": lim.name, "display": lim.display, "unit": lim.unit, "scope": lim.scope} for lim in all_limits()],
+        "limits": [{"name": lim.name, "display": lim.display, "unit": lim.unit, "scope": lim.scope} for lim in registry.all_limits()],
         "ranking": _ranking(review),
         "cases": [case_to_json(c) for c in review.cases],
         "sweep": _sweep(review),

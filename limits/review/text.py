@@ -44,7 +44,7 @@ def case_lines(review: Review) -> list[str]:
         s = c.summary
         w = s.worst
         worst = f"worst {w.text}" if w else "worst: nothing evaluated"
-        out.append(f"  {c.case:<{width}}  {s.verdict.words:<26} {worst}; segments: {s.n_exceeds} exceeding, "
+        out.append(f"  {c.case:<{width}}  {s.verdict.words:<27} {worst}; segments: {s.n_exceeds} exceeding, "
                    f"{s.n_near} near")
         for f in c.findings:
             out.append(f"  {'':<{width}}  could not be evaluated: {f}")

@@ -27,7 +27,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from legbridge.limits.checks.results import CheckSettings
-from legbridge.limits.verdict import Verdict, utilisation_text
+from legbridge.limits.verdict import Verdict, limit_label, utilisation_text
 from legbridge.mapping.plan import Plan, Policy, ReducedTrajectory
 from legbridge.mapping.slip import (
     ApexState,
@@ -300,7 +300,7 @@ def closing_end(r: OffsetResult) -> WindowEnd:
     if r.verdict == Verdict.EXCEEDS:
         where = f" ({r.worst_joint})" if r.worst_joint else ""
         return WindowEnd(END_LIMIT, r.offset_m, r.worst_limit, r.worst_joint, r.worst_utilisation,
-                         f"{r.worst_limit}{where} at {utilisation_text(r.worst_utilisation)} at {r.offset_m:+.4f} m")
+                         f"{limit_label(r.worst_limit)}{where} at {utilisation_text(r.worst_utilisation)} at {r.offset_m:+.4f} m")
     first = r.findings[0] if r.findings else "not checked"
     return WindowEnd(END_NOT_EVALUATED, r.offset_m, "", "", math.nan,
                      f"could not be evaluated at {r.offset_m:+.4f} m ({first})")

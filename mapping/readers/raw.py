@@ -139,6 +139,17 @@ def _policy(raw: RawPlan, sc) -> Policy | None:
                               key=f"{raw.policy_key}{raw.policy_sep}actuator_length_m[{i}]", expected="a length > 0",
                               found=float(p["actuator_length_m"][i]))
     si = scaling.scale_columns(p, sc)
+    # the simulator's own rules (start at the apex, t = 0; at least two samples; |angle| < pi/2), so
+    # a policy read here is one a sweep can run
+    from legbridge.mapping.slip.policy import make_policy
+    from legbridge.robots.errors import SlipInputError
+
+    try:
+        make_policy(si["time_s"], si["actuator_length_m"], si["touchdown_angle_rad"])
+    except SlipInputError as exc:
+        key = exc.key.replace("policy.", f"{raw.policy_key}{raw.policy_sep}", 1) if exc.key else raw.policy_key
+        raise PlanFormatError("the open-loop policy cannot be simulated", path=raw.path, key=key,
+                              expected=exc.expected, found=exc.found) from exc
     return Policy(**{k: frozen_array(si[k]) for k in POLICY_COLUMNS})
 
 

@@ -166,6 +166,14 @@ def test_cli_exit_codes_outputs_and_caution(short_plan_file, ample_robot, tmp_pa
     assert code == 2 and "--force" in cap.err and cap.out == ""
     code, cap = _main([short_plan_file, "--robot", ample_robot, "--heights", "0.1:-0.1:3"], capsys)
     assert code == 2 and "LO:HI:N" in cap.err
+    # a missing output folder is refused as such (OutputFolderError), before any work, and the
+    # canonical option name works as the 0.1 one does
+    from legbridge.robots.errors import OutputFolderError
+
+    code, cap = _main([short_plan_file, "--robot", ample_robot, "--ground-offsets=0:0:1",
+                       "--csv", tmp_path / "no" / "s.csv"], capsys)
+    assert code == 2 and "output folder does not exist" in cap.err and cap.out == ""
+    assert issubclass(OutputFolderError, NotADirectoryError)
     flat = tmp_path / "flat.csv"
     from legbridge.mapping.readers import read_plan
     from legbridge.mapping.slip import plan_for_flat_formats

@@ -80,6 +80,8 @@ BAD = [
     ("bad_length_mismatch.json", r"'cases\[0\]\.columns\.body_z_m'.*expected 6 samples.*found '5 samples'"),
     ("bad_duplicate_case.json", r"case 'nominal' appears twice"),
     ("bad_policy_time.json", r"'policy\.time_s\[2\]'.*strictly increasing"),
+    # a policy must start at the apex (t = 0), as the simulator a sweep runs requires
+    ("bad_policy_late_start.json", r"'policy\.time_s\[0\]'.*cannot be simulated.*expected 0"),
     ("bad_mass_text.json", r"'mass_kg'.*expected a positive number, found 'heavy'"),
     ("bad_syntax.json", r"not valid JSON.*line 4"),
 ]

@@ -107,7 +107,8 @@ def per_sample_motion(traj, robot, settings, idx):
 
 
 def main():
-    from legbridge.limits.checks.case import check_plan, rank_cases
+    from legbridge.limits.checks.case import check_plan
+    from legbridge.limits.verdict import rank
     from legbridge.limits.checks.results import CheckSettings
 
     robot, trajs = load()
@@ -123,8 +124,9 @@ def main():
           f"{n_total / whole:,.0f} samples/s (target: < 2 s) -> {'met' if whole < 2.0 else 'NOT met'}")
     print(f"batched QPs alone (compile included): {qp_time:.3f} s; force QP over {n_stance} stance samples, "
           f"motion QP over {n_total} samples")
-    for r in rank_cases(reviews):
-        print(f"  {r.case}: {r.verdict}, worst {r.worst_limit} {r.worst_joint} {r.worst_utilisation:.2f}")
+    for i in rank(r.summary for r in reviews):
+        s = reviews[i].summary
+        print(f"  {s.case}: {s.verdict.value}, worst {s.worst.text if s.worst else '-'}")
     mu = robot.ground_friction
     tf = tm = 0.0
     for traj in trajs:
