@@ -4,6 +4,8 @@ The motor side is computed with robots.actuator_limits (the DC-equivalent model 
 current from tau, qd, qdd; voltage R I + Ke w_m; electrical power V I; mechanical power tau qd.
 """
 
+from html.parser import HTMLParser
+
 import numpy as np
 import pytest
 
@@ -64,3 +66,73 @@ def make_traj():
 @pytest.fixture(scope="session")
 def hand_jacobian():
     return leg_jacobian
+
+
+class Doc(HTMLParser):
+    """The one HTML reader of the report tests (Python's html.parser): ids in document order, the
+    visible text, tables (by class) as rows of cell text, list items of <ol>/<ul> (by class), img
+    attributes and every tag with its attributes."""
+
+    def __init__(self):
+        super().__init__(convert_charrefs=True)
+        self.ids, self.text, self.tables, self.imgs, self.tags, self.lists = [], [], {}, [], [], {}
+        self._table = None
+        self._row = None
+        self._cell = None
+        self._list = None
+        self._item = None
+
+    def handle_starttag(self, tag, attrs):
+        a = dict(attrs)
+        self.tags.append((tag, a))
+        if "id" in a:
+            self.ids.append(a["id"])
+        if tag == "table":
+            self._table = a.get("class", f"table{len(self.tables)}")
+            self.tables[self._table] = []
+        elif tag == "tr":
+            self._row = []
+        elif tag in ("td", "th"):
+            self._cell = []
+        elif tag == "img":
+            self.imgs.append(a)
+        elif tag in ("ol", "ul"):
+            self._list = a.get("class", f"list{len(self.lists)}")
+            self.lists[self._list] = []
+        elif tag == "li" and self._list is not None:
+            self._item = []
+
+    def handle_endtag(self, tag):
+        if tag in ("td", "th") and self._row is not None and self._cell is not None:
+            self._row.append(" ".join("".join(self._cell).split()))
+            self._cell = None
+        elif tag == "tr" and self._table is not None and self._row is not None:
+            self.tables[self._table].append(self._row)
+            self._row = None
+        elif tag == "table":
+            self._table = None
+        elif tag == "li" and self._item is not None:
+            self.lists[self._list].append(" ".join("".join(self._item).split()))
+            self._item = None
+        elif tag in ("ol", "ul"):
+            self._list = None
+
+    def handle_data(self, data):
+        self.text.append(data)
+        if self._cell is not None:
+            self._cell.append(data)
+        if self._item is not None:
+            self._item.append(data)
+
+
+def parse(html: str) -> Doc:
+    doc = Doc()
+    doc.feed(html)
+    doc.close()
+    return doc
+
+
+@pytest.fixture(scope="session")
+def parse_html():
+    """html text -> Doc (see Doc)."""
+    return parse

@@ -15,7 +15,6 @@ from __future__ import annotations
 import json
 import math
 import re
-from html.parser import HTMLParser
 from pathlib import Path
 
 import numpy as np
@@ -74,37 +73,6 @@ def reviewed(three_case_plan, tmp_path_factory):
     return code, out, buf.getvalue()
 
 
-class _Cells(HTMLParser):
-    def __init__(self):
-        super().__init__()
-        self.ids, self.rows, self._row, self._cell, self._table = [], [], None, None, None
-
-    def handle_starttag(self, tag, attrs):
-        a = dict(attrs)
-        if "id" in a:
-            self.ids.append(a["id"])
-        if tag == "table":
-            self._table = a.get("class")
-        if tag == "tr" and self._table == "verdicts":
-            self._row = []
-        if tag in ("td", "th") and self._row is not None:
-            self._cell = []
-
-    def handle_endtag(self, tag):
-        if tag in ("td", "th") and self._cell is not None:
-            self._row.append(" ".join("".join(self._cell).split()))
-            self._cell = None
-        if tag == "tr" and self._row is not None:
-            self.rows.append(self._row)
-            self._row = None
-        if tag == "table":
-            self._table = None
-
-    def handle_data(self, data):
-        if self._cell is not None:
-            self._cell.append(data)
-
-
 def test_review_with_a_violation_exits_1_and_writes_everything(reviewed):
     code, out, stdout = reviewed
     assert code == 1
@@ -123,16 +91,16 @@ def test_review_with_a_violation_exits_1_and_writes_everything(reviewed):
     assert 0.97 * 51.84 < knee[0]["allowed"] <= 51.84 + 1e-9
 
 
-def test_report_sections_cases_and_verdicts_agree_with_the_json(reviewed):
+def test_report_sections_cases_and_verdicts_agree_with_the_json(reviewed, parse_html):
     _, out, _ = reviewed
     html = (out / REPORT_HTML).read_text()
-    p = _Cells()
-    p.feed(html)
+    p = parse_html(html)
     assert [i for i in p.ids if i in SECTION_IDS] == list(SECTION_IDS)
     for case in ("nominal", "step-up", "drop"):
         assert f"case-{case}" in p.ids
-    col = {n: i for i, n in enumerate(p.rows[0])}
-    table = {r[0]: r[col["Verdict"]] for r in p.rows[1:]}
+    rows = p.tables["verdicts"]
+    col = {n: i for i, n in enumerate(rows[0])}
+    table = {r[0]: r[col["Verdict"]] for r in rows[1:]}
     assert table == {"nominal": VERDICT_WITHIN, "step-up": VERDICT_NEAR, "drop": VERDICT_EXCEEDS}
     sha = json.loads((out / REVIEW_JSON).read_text())["plan_sha256"]
     assert sha in html
