@@ -14,7 +14,7 @@ Public API (loaded on first use, so the command line starts quickly):
     CAUTIONS, caution_lines()                                    (limits.cautions)
 """
 
-from importlib import import_module
+from legbridge.robots.lazy import lazy_exports
 
 _WHERE = {
     "build_review": "review", "run_review": "review", "run_demo_review": "review", "Review": "review",
@@ -29,13 +29,4 @@ _WHERE = {
 }
 
 __all__ = sorted(_WHERE)
-
-
-def __getattr__(name):
-    if name in _WHERE:
-        return getattr(import_module(f"{__name__}.{_WHERE[name]}"), name)
-    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
-
-
-def __dir__():
-    return sorted(set(__all__) | {"__doc__", "__name__"})
+__getattr__, __dir__ = lazy_exports(__name__, _WHERE)

@@ -19,6 +19,7 @@ from pathlib import Path
 
 from legbridge.limits.cli.options import (
     add_check_options,
+    add_output,
     add_ground_offsets,
     add_jobs,
     jobs_from_args,
@@ -50,7 +51,8 @@ def register(subparsers) -> None:
     p.add_argument("--json", default=None, metavar="OUT", help="write the results as JSON")
     p.add_argument("--plot", default=None, metavar="OUT.png",
                    help="write the utilisation-against-offset figure (one file per plan and robot: OUT-2.png ...)")
-    p.add_argument("--force", action="store_true", help="replace output files that exist")
+    add_output(p, "folder for sweep.csv, sweep.json and sweep.png (the names a review folder uses); --csv, "
+                  "--json and --plot name single files instead")
     p.set_defaults(func=run)
 
 
@@ -133,18 +135,41 @@ def summary_lines(sweeps, jobs_label: str) -> list[str]:
 
 def run(args) -> int:
     """Run ``legbridge sweep``; returns the exit status."""
-    from legbridge.limits.sweep.model import exit_status
-    from legbridge.limits.sweep.runner import run_sweep
-    from legbridge.limits.sweep.table import write_csv, write_json
-    from legbridge.robots.files import check_outputs, write_atomic
     from legbridge.robots.library import resolve_robot
 
     settings = settings_from_args(args)
     offsets = offsets_from_args(args)
     jobs = jobs_from_args(args)
     n_pairs = len(args.plan) * len(args.robot)
-    plots = [str(p) for p in plot_paths(args.plot, n_pairs)] if args.plot else []
     robot_paths = [resolve_robot(r) for r in args.robot]
+    if args.output:  # a folder: the review folder's names for whatever was not named on its own
+        from legbridge.limits.review.run import SWEEP_CSV, SWEEP_JSON
+        from legbridge.robots.files import check_output_folder
+
+        folder = Path(args.output)
+        names = [SWEEP_CSV, SWEEP_JSON] + [p.name for p in plot_paths("sweep.png", n_pairs)]
+        check_output_folder(folder, names, inputs=[*args.plan, *robot_paths], force=args.force)
+        args.csv = args.csv or str(folder / SWEEP_CSV)
+        args.json = args.json or str(folder / SWEEP_JSON)
+        args.plot = args.plot or str(folder / "sweep.png")
+        created = not folder.exists()
+        folder.mkdir(parents=True, exist_ok=True)
+        try:
+            return _run(args, settings, offsets, jobs, n_pairs, robot_paths)
+        except BaseException:
+            if created and not any(folder.iterdir()):  # nothing written: leave no empty folder behind
+                folder.rmdir()
+            raise
+    return _run(args, settings, offsets, jobs, n_pairs, robot_paths)
+
+
+def _run(args, settings, offsets, jobs, n_pairs, robot_paths) -> int:
+    from legbridge.limits.sweep.model import exit_status
+    from legbridge.limits.sweep.runner import run_sweep
+    from legbridge.limits.sweep.table import write_csv, write_json
+    from legbridge.robots.files import check_outputs, write_atomic
+
+    plots = [str(p) for p in plot_paths(args.plot, n_pairs)] if args.plot else []
     check_outputs([args.csv, args.json, *plots], inputs=[*args.plan, *robot_paths], force=args.force)
     jobs_used = jobs or os.cpu_count() or 1
     label = f"Dask scheduler {args.scheduler}" if args.scheduler else f"{jobs_used} local job(s)"

@@ -8,7 +8,7 @@
     write_corrected_targets(review, path)               the nearest feasible motion, marked MODIFIED
 """
 
-from importlib import import_module
+from legbridge.robots.lazy import lazy_exports
 
 _WHERE = {
     "Review": "review", "SWEEP_AUTO": "review", "assemble_review": "review", "build_review": "review",
@@ -18,13 +18,4 @@ _WHERE = {
 }
 
 __all__ = sorted(_WHERE)
-
-
-def __getattr__(name):
-    if name in _WHERE:
-        return getattr(import_module(f"{__name__}.{_WHERE[name]}"), name)
-    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
-
-
-def __dir__():
-    return sorted(set(globals()) | set(__all__))
+__getattr__, __dir__ = lazy_exports(__name__, _WHERE)

@@ -7,7 +7,7 @@ translated and checked like the plan's own cases.
     plot_sweep(result) -> matplotlib Figure                                  (plot)
 """
 
-from importlib import import_module
+from legbridge.robots.lazy import lazy_exports
 
 _WHERE = {
     "run_sweep": "runner", "run_tasks": "runner", "run_offset": "runner", "check_jobs": "runner",
@@ -18,13 +18,4 @@ _WHERE = {
 }
 
 __all__ = sorted(_WHERE)
-
-
-def __getattr__(name):
-    if name in _WHERE:
-        return getattr(import_module(f"{__name__}.{_WHERE[name]}"), name)
-    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
-
-
-def __dir__():
-    return sorted(set(globals()) | set(__all__))
+__getattr__, __dir__ = lazy_exports(__name__, _WHERE)

@@ -17,7 +17,7 @@ import numpy as np
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
 
-from legbridge.limits.verdict import Verdict
+from legbridge.limits.verdict import Verdict, limit_label
 
 LINESTYLES = ("-", "--", "-.", ":", (0, (5, 1, 1, 1, 1, 1)), (0, (1, 2)), (0, (8, 2)))
 MARKERS = ("o", "s", "D", "P", "*", "h", "X", "<", ">", "p")
@@ -28,7 +28,9 @@ TOP_CAP = 5.0  # the y axis stops at 500 % (further values are drawn at the edge
 
 
 def _series(result):
-    names = sorted({k for r in result.offsets for k, _ in r.worst})
+    from legbridge.limits.sweep.table import limit_names
+
+    names = limit_names([result])  # the checks' listing order
     x = np.array([r.offset_m for r in result.offsets], dtype=float)
     ys = {}
     for n in names:
@@ -55,7 +57,7 @@ def plot_sweep(result, *, title: str | None = None) -> Figure:
     for k, (name, y) in enumerate(ys.items()):
         shown = np.where(np.isfinite(y) & (y <= top), y, np.where(np.isnan(y), np.nan, top))
         ax.plot(x, 100.0 * shown, linestyle=LINESTYLES[k % len(LINESTYLES)], marker=MARKERS[k % len(MARKERS)],
-                markersize=4.5, linewidth=1.2, color=INK, markerfacecolor="white" if k % 2 else INK, label=name, zorder=3)
+                markersize=4.5, linewidth=1.2, color=INK, markerfacecolor="white" if k % 2 else INK, label=limit_label(name), zorder=3)
         over = ~np.isnan(y) & ~(y <= top)
         if over.any():
             ax.plot(x[over], np.full(int(over.sum()), 100.0 * top), linestyle="none", marker="^", markersize=7,
