@@ -140,7 +140,7 @@ def test_plot_marks_window_falls_and_limit_line():
     assert ax.get_xlabel() == "ground offset [m]" and "%" in ax.get_ylabel()
     labels = [line.get_label() for line in ax.get_lines()]
     assert "peak torque" in labels and "100 % of the limit" in labels and "reduced model fell" in labels
-    torque = [line for line in ax.get_lines() if line.get_label() == "peak_torque"][0]
+    torque = [line for line in ax.get_lines() if line.get_label() == "peak torque"][0]
     np.testing.assert_allclose(torque.get_ydata(), [140.0, 80.0, 90.0, np.nan])
     spans = [p for p in ax.patches if p.get_label().startswith("window")]
     assert len(spans) == 1 and spans[0].get_label() == "window +0.000 to +0.020 m"
