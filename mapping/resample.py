@@ -36,7 +36,7 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.interpolate import CubicSpline, PchipInterpolator
 
-from legbridge.robots.errors import LegbridgeError, ResampleError
+from legbridge.robots.errors import ResampleError
 
 from .plan import ReducedTrajectory, frozen_array
 

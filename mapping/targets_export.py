@@ -25,7 +25,7 @@ from pathlib import Path
 
 import numpy as np
 
-from legbridge.robots.errors import LegbridgeError, TargetsExportError
+from legbridge.robots.errors import TargetsExportError
 from legbridge.robots.files import check_outputs, write_atomic
 from legbridge.robots.robot import Robot
 from legbridge.robots.version import provenance as version_provenance

@@ -8,7 +8,6 @@ the modelled limits, 1 when a limit is exceeded or something could not be evalua
 
 from __future__ import annotations
 
-import sys
 
 from legbridge.limits.cli.options import add_check_options, add_output, add_robot, settings_from_args
 from legbridge.mapping.pipeline import prepare

@@ -20,7 +20,7 @@ from pathlib import Path
 
 import numpy as np
 
-from legbridge.robots.errors import CorrectedTargetsError, LegbridgeError
+from legbridge.robots.errors import CorrectedTargetsError
 from legbridge.robots.files import check_outputs, write_atomic
 from legbridge.robots.version import tool_version
 

@@ -37,7 +37,7 @@ from legbridge.mapping.slip import (
     params_from_plan,
     policy_from_plan,
 )
-from legbridge.robots.errors import LegbridgeError, SweepInputError
+from legbridge.robots.errors import SweepInputError
 
 SCHEMA_VERSION = "legbridge.sweep/1"
 

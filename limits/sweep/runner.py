@@ -30,7 +30,6 @@ from legbridge.limits.checks.case import check_case
 from legbridge.limits.checks.results import CheckSettings
 from legbridge.limits.verdict import Verdict
 from legbridge.limits.sweep.model import (
-    NOT_CHECKED,
     QP_MODES,
     QPS_ALL,
     OffsetResult,

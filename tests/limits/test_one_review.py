@@ -142,3 +142,12 @@ def test_build_review_notes_a_plan_without_policy(tmp_path):
                           CheckSettings(rate_hz=250.0, run_qps=False))
     assert review.sweep is None and "no open-loop policy" in review.sweep_note
     assert "no open-loop policy" in "\n".join(review_lines(review))
+
+
+def test_every_verdict_has_a_report_style():
+    # the report marks verdicts by CSS class (Verdict.css_class); each needs a rule in the stylesheet
+    from importlib import resources
+
+    css = (resources.files("legbridge.limits.review.report") / "style.css").read_text(encoding="utf-8")
+    for v in Verdict:
+        assert f".{v.css_class} " in css, v

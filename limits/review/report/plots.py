@@ -195,7 +195,6 @@ def case_joints_figure(review, robot) -> Figure:
     notes: list[str] = []
     for j, name in enumerate(names):
         joint = robot.joint(name)
-        act = joint.actuator
         series = {"angle": traj.q[:, j], "speed": traj.qd[:, j], "torque": traj.tau[:, j]}
         vmax = max_joint_speed(joint).value
         tmax = max_joint_torque(joint).value
