@@ -30,3 +30,30 @@ def test_an_internal_error_fails_closed_with_exit_3(monkeypatch, capsys):
     assert main(["robot", "show", "example-leg"]) == 3
     err = capsys.readouterr().err
     assert "internal error (ZeroDivisionError: a bug)" in err and "Traceback" not in err
+
+
+def test_a_closed_output_pipe_ends_quietly(monkeypatch, capfd):
+    # BrokenPipeError is an OSError: its own branch must come first (Python docs, "Note on SIGPIPE"),
+    # or a closed pipe would read as a file-system refusal with exit 2
+    import legbridge.limits.cli.robot as robot_cmd
+
+    def closed(args):
+        raise BrokenPipeError(32, "Broken pipe")
+
+    monkeypatch.setattr(robot_cmd, "run_show", closed)
+    assert main(["robot", "show", "example-leg"]) == 1
+    assert "error" not in capfd.readouterr().err
+
+
+def test_canonical_and_earlier_option_names_meet():
+    # one name per option in every command; the 0.1 names still parse to the same setting
+    from legbridge.limits.cli import build_parser
+
+    p = build_parser()
+    for cmd in (["review", "plan.json", "--robot", "r", "-o", "out"], ["sweep", "plan.json", "--robot", "r"]):
+        a = p.parse_args(cmd + ["--ground-offsets", "0:0.1:3"])
+        b = p.parse_args(cmd + ["--heights" if cmd[0] == "sweep" else "--sweep", "0:0.1:3"])
+        assert a.ground_offsets == b.ground_offsets == "0:0.1:3"
+    for cmd in (["review", "plan.json", "--robot", "r"], ["check", "plan.json", "--robot", "r"],
+                ["translate", "plan.json", "--robot", "r"], ["sweep", "plan.json", "--robot", "r"]):
+        assert p.parse_args(cmd + ["--output", "x"]).output == p.parse_args(cmd + ["-o", "x"]).output == "x"

@@ -71,3 +71,24 @@ def test_every_public_function_and_class_has_a_docstring():
                     if not ast.get_docstring(node):
                         missing.append(f"{py.relative_to(ROOT)}:{node.lineno} {node.name}")
     assert not missing, missing
+
+
+def test_house_rules_of_the_layout():
+    # limits/ holds folders by question and only a handful of files at its top level; no source cites a
+    # document that is not in the repository; every exception class lives in robots/errors.py
+    top = [p.name for p in (ROOT / "limits").iterdir() if p.is_file() and p.suffix == ".py"]
+    assert len(top) <= 6, top
+    cited, elsewhere = [], []
+    for layer in LAYERS:
+        for py in (ROOT / layer).rglob("*.py"):
+            text = py.read_text()
+            if "DESIGN.md" in text:
+                cited.append(str(py.relative_to(ROOT)))
+            for node in ast.parse(text).body:
+                if isinstance(node, ast.ClassDef) and (node.name.endswith("Error") or any(
+                        getattr(b, "id", "") in ("Exception", "LegbridgeError") for b in node.bases)):
+                    if py.relative_to(ROOT).as_posix() != "robots/errors.py":
+                        elsewhere.append(f"{py.relative_to(ROOT)}: {node.name}")
+    assert not cited, cited
+    # a dataclass of apex errors is a result, not an exception
+    assert [e for e in elsewhere if not e.endswith(": ApexError")] == [], elsewhere
