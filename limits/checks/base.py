@@ -34,7 +34,7 @@ class CheckContext:
 
     traj: legbridge.mapping.joint_trajectory.JointTrajectory; robot; settings
     friction: the friction coefficient in force (settings.friction, else the robot's) [-]
-    thermal: the winding thermal simulation of this case (limits.thermal), computed once
+    thermal: the winding thermal simulation of this case (limits.checks.thermal), computed once
     """
 
     traj: object

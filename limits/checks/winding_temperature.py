@@ -1,4 +1,4 @@
-"""Continuous current through the winding thermal model (limits.thermal): the winding temperature
+"""Continuous current through the winding thermal model (limits.checks.thermal): the winding temperature
 rise above ambient at each plan sample during its last (hottest) repetition over the test duration,
 against the allowed rise (max winding temperature - ambient). value and allowed: rise [K]."""
 

@@ -5,7 +5,7 @@
 PLAN is read and translated by legbridge.mapping.pipeline.prepare for ROBOT (a description file or
 a bundled robot name). Prints a short summary (cases, samples, flagged samples, the
 scaling of a nondimensional plan, where the targets went) and the caution text; exit status 0.
-Bad input raises a LegbridgeError (exit status 2 via legbridge.limits.cli.main, nothing written).
+Bad input raises a LegbridgeError (exit status 2 via legbridge.limits.cli, nothing written).
 Flagged samples (out of reach, singular...) do not change the exit status here: `legbridge check`
 reviews them; they are listed in the summary and counted in the file's metadata.
 """

@@ -2,7 +2,7 @@
 
 Schema (every number SI; a number that is not finite is written as null; times in seconds):
 
-    schema          "legbridge.review/1" (limits.results.SCHEMA_VERSION)
+    schema          "legbridge.review/1" (SCHEMA_VERSION below)
     tool_version    legbridge version that wrote the file
     provenance      versions of legbridge, Python, NumPy, SciPy, Pinocchio (pin), cvxpy, Clarabel,
                     OSQP and the QP solver used (legbridge.robots.version.provenance)

@@ -3,7 +3,7 @@
 Sources: the standard DC motor model V = R I + Ke w, T = Kt I (Hughes and Drury, Electric Motors and
 Drives, 4th ed., ch. 3), evaluated by hand below; Coulomb friction cone |Fx| <= mu Fz and unilateral
 contact Fz >= 0 (common practice in legged locomotion); 'at the limit is within it' (our definition,
-limits.results).
+limits.verdict).
 """
 
 from dataclasses import replace

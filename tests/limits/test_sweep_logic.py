@@ -1,4 +1,4 @@
-"""Pure sweep logic (limits.sweep, limits.sweep_table, limits.report.sweep_plot) on hand-built results:
+"""Pure sweep logic (limits.sweep.model, limits.sweep.table, limits.sweep.plot) on hand-built results:
 the window definition of issue 6, offset grids against numpy.linspace, apex errors against hand
 arithmetic, the results table and the figure."""
 

@@ -1,4 +1,4 @@
-"""Disturbance sweeps end to end (limits.sweep_runner, limits.commands.sweep): simulate, translate and
+"""Disturbance sweeps end to end (limits.sweep.runner, limits.cli.sweep): simulate, translate and
 check per offset; determinism across worker counts and on Dask; falls closing the window; exit codes.
 
 Plans here are the invented demo scenario (legbridge.mapping.slip.demo) cut to 0.8 s (two hops) to

@@ -52,7 +52,7 @@ def num(x, fmt: str = ".4g") -> str:
 
 
 def pct(u) -> str:
-    """A utilisation as a percentage for a table cell (limits.formatting.utilisation_text)."""
+    """A utilisation as a percentage for a table cell (limits.verdict.utilisation_text)."""
     return escape(utilisation_text(u)).replace(" %", "&nbsp;%")
 
 
