@@ -29,6 +29,7 @@ class Prepared:
     robot: Robot
     trajectories: tuple[JointTrajectory, ...]
     rate_hz: float
+    warnings: tuple[str, ...] = ()
 
     def __repr__(self) -> str:
         return (f"Prepared(plan={self.plan.path!r}, robot={self.robot.name!r}, cases={len(self.trajectories)}, "
@@ -58,14 +59,22 @@ def read_against(plan, robot: Robot) -> Plan:
 
 
 def prepare(plan, robot, *, rate_hz: float, cases=None, leg_model=None) -> Prepared:
-    """Read ``plan`` against ``robot`` and translate its cases (or the named ``cases``) at ``rate_hz``."""
+    """Read ``plan`` against ``robot``, refuse it when its units cannot be the robot's (a probable
+    unit slip: millimetres, centimetres, degrees; mapping.readers.plausibility), and translate its
+    cases (or the named ``cases``) at ``rate_hz``. Milder mismatches (leg length or mass far from the
+    robot's) come back as ``warnings``."""
     rate = check_rate(rate_hz)
     robot = as_robot(robot)
     plan = read_against(plan, robot)
+    from legbridge.robots.leg_model import build_leg_model
+
+    from .readers.plausibility import check_units
     from .translate import translate_plan
 
-    trajs = translate_plan(plan, robot, rate_hz=rate, cases=cases, leg_model=leg_model)
-    return Prepared(plan, robot, tuple(trajs), rate)
+    leg = leg_model if leg_model is not None else build_leg_model(robot)
+    warnings = check_units(plan, robot, leg_model=leg)
+    trajs = translate_plan(plan, robot, rate_hz=rate, cases=cases, leg_model=leg)
+    return Prepared(plan, robot, tuple(trajs), rate, tuple(warnings))
 
 
 __all__ = ["Prepared", "check_rate", "prepare", "read_against"]

@@ -64,19 +64,33 @@ def terminal_voltage_v(act: Actuator, current, joint_speed_rad_s):
     return act.winding_resistance_ohm * np.asarray(current, dtype=float) + act.back_emf_v_s_per_rad * w
 
 
-def current_bounds_a(act: Actuator, joint_speed_rad_s):
-    """Current interval [A] allowed at a joint speed: drive peak current and voltage envelope.
+def winding_resistance_at_ohm(act: Actuator, temp_c) -> float:
+    """Winding resistance [ohm] at a winding temperature [degC]: R_ref (1 + alpha (T - T_ref))."""
+    return act.winding_resistance_ohm * act.thermal.resistance_factor(temp_c)
+
+
+def hot_winding_resistance_ohm(act: Actuator) -> float:
+    """Winding resistance [ohm] at the winding's temperature limit (max_winding_temp_c): the value the
+    voltage checks use, since the winding may be that hot at any moment of a test."""
+    return winding_resistance_at_ohm(act, act.thermal.max_winding_temp_c)
+
+
+def current_bounds_a(act: Actuator, joint_speed_rad_s, *, resistance_ohm: float | None = None):
+    """Current interval [A] allowed at a joint speed: drive peak current and voltage envelope, with the
+    winding resistance ``resistance_ohm`` (default the file's value at its reference temperature).
 
     Returns (lo, hi); where lo > hi the speed is beyond what the voltage allows (no current works).
     """
     w = motor_speed_rad_s(act, joint_speed_rad_s)
-    r, ke, vmax, ipk = act.winding_resistance_ohm, act.back_emf_v_s_per_rad, act.max_voltage_v, act.peak_current_a
+    r = act.winding_resistance_ohm if resistance_ohm is None else float(resistance_ohm)
+    ke, vmax, ipk = act.back_emf_v_s_per_rad, act.max_voltage_v, act.peak_current_a
     lo = np.maximum(-ipk, (-vmax - ke * w) / r)
     hi = np.minimum(ipk, (vmax - ke * w) / r)
     return lo, hi
 
 
-def joint_torque_bounds_nm(act: Actuator, joint_speed_rad_s, joint_accel_rad_s2=0.0, *, voltage=True):
+def joint_torque_bounds_nm(act: Actuator, joint_speed_rad_s, joint_accel_rad_s2=0.0, *, voltage=True,
+                           resistance_ohm: float | None = None):
     """Joint torque interval [N m] the actuator can deliver at a joint speed and acceleration.
 
     With ``voltage=False`` only the drive peak current bounds the torque (the 'peak torque' limit);
@@ -86,7 +100,7 @@ def joint_torque_bounds_nm(act: Actuator, joint_speed_rad_s, joint_accel_rad_s2=
     qd = np.asarray(joint_speed_rad_s, dtype=float)
     w = motor_speed_rad_s(act, qd)
     if voltage:
-        lo_i, hi_i = current_bounds_a(act, qd)
+        lo_i, hi_i = current_bounds_a(act, qd, resistance_ohm=resistance_ohm)
     else:
         lo_i = np.full_like(w, -act.peak_current_a)
         hi_i = np.full_like(w, act.peak_current_a)
@@ -104,9 +118,13 @@ def joint_torque_limits_nm(joint: Joint, joint_speed_rad_s, joint_accel_rad_s2=0
 
     Returns (lo, hi, source): source names what bounds the torque ('drive peak current', plus 'and the
     voltage envelope' with voltage=True, plus 'and joint effort limit' where that is tighter somewhere).
+    The voltage envelope uses the winding resistance at its temperature limit
+    (hot_winding_resistance_ohm): a check must hold however warm the winding has become.
     """
-    lo, hi = joint_torque_bounds_nm(joint.actuator, joint_speed_rad_s, joint_accel_rad_s2, voltage=voltage)
-    source = "drive peak current" + (" and voltage envelope" if voltage else "")
+    act = joint.actuator
+    lo, hi = joint_torque_bounds_nm(act, joint_speed_rad_s, joint_accel_rad_s2, voltage=voltage,
+                                    resistance_ohm=hot_winding_resistance_ohm(act) if voltage else None)
+    source = "drive peak current" + (" and voltage envelope (winding at its temperature limit)" if voltage else "")
     e = joint.effort_limit_nm
     if e is not None:
         if np.any(hi > e) or np.any(lo < -e):

@@ -8,6 +8,11 @@ from .fields import Table
 from .robot import Actuator, ThermalModel
 
 
+# Temperature coefficient of the resistance of annealed copper near room temperature [1/K] (common
+# practice; 0.00393 /K at 20 degC is the handbook value, from memory).
+COPPER_ALPHA_PER_K = 0.00393
+
+
 def read_thermal(t: Table) -> ThermalModel:
     """One-node thermal keys, or two-node ones when housing values are present."""
     max_c = t.number("max_winding_temp_c")
@@ -28,6 +33,8 @@ def read_thermal(t: Table) -> ThermalModel:
         ambient_temp_c=amb_c,
         housing_resistance_k_per_w=housing_r,
         housing_time_constant_s=housing_tau,
+        resistance_temp_coefficient_per_k=t.number("resistance_temp_coefficient_per_k", COPPER_ALPHA_PER_K, nonneg=True, hi=0.05),
+        resistance_reference_temp_c=t.number("resistance_reference_temp_c", 25.0, lo=-100.0, hi=300.0),
     )
 
 

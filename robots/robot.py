@@ -48,6 +48,10 @@ class ThermalModel:
     One node: C_w dT_w/dt = P - (T_w - T_amb) / R_w, tau_w = R_w C_w.
     Two nodes (when ``housing_resistance_k_per_w`` is set): R_w, tau_w are winding-to-housing,
     R_h, tau_h housing-to-ambient.
+    The copper loss P = R(T_w) I^2 grows with the winding temperature:
+    R(T) = R_ref (1 + alpha (T - T_ref)), alpha = ``resistance_temp_coefficient_per_k`` (copper
+    0.00393 /K near 20-25 degC, common practice), T_ref = ``resistance_reference_temp_c`` (the
+    temperature at which the file's winding resistance holds, datasheets usually give 25 degC).
     """
 
     winding_resistance_k_per_w: float
@@ -56,6 +60,12 @@ class ThermalModel:
     ambient_temp_c: float
     housing_resistance_k_per_w: float | None = None
     housing_time_constant_s: float | None = None
+    resistance_temp_coefficient_per_k: float = 0.00393
+    resistance_reference_temp_c: float = 25.0
+
+    def resistance_factor(self, temp_c):
+        """R(T) / R_ref = 1 + alpha (T - T_ref) [-] at a winding temperature [degC] (array or float)."""
+        return 1.0 + self.resistance_temp_coefficient_per_k * (temp_c - self.resistance_reference_temp_c)
 
     @property
     def two_node(self) -> bool:

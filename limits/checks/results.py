@@ -22,8 +22,8 @@ class CheckSettings:
     """What the user asked for.
 
     rate_hz: controller / export rate [Hz]
-    duration_s: test duration for the thermal model, plan repeated periodically; None = one period
-        (a duration shorter than one period is raised to one period)
+    duration_s: test duration [s] for the thermal model, the plan repeated; None (default) = the plan
+        repeated for as long as the test runs (periodic steady state, time to limit)
     margin: width of the 'near' band below each limit, as a fraction of the limit (0.1 = 10 %)
     friction: ground friction coefficient overriding the robot file's, or None
     supply_power_w: total electrical power the supply can deliver, or None (not checked)
@@ -132,12 +132,21 @@ class QPSolution:
 
 @dataclass(frozen=True, eq=False)
 class ThermalResult:
-    """Winding temperatures simulated over the test duration (plan repeated periodically).
+    """Winding temperatures over the assumed test (limits.checks.thermal).
 
-    time_s (m,) [s]; winding_temp_c (m, j) [degC]; joint_names (j,)
-    max_temp_c (j,): the limit per joint [degC]; time_to_limit_s: joint -> first time the winding
-    reaches its limit [s], or None when it does not within ``duration_s``
-    phase_temp_c (n, j): temperature at each plan sample during its last repetition (the hottest)
+    duration_s: the test duration [s]; inf when the plan is taken as repeated for as long as the
+        test runs (periodic steady state, the default)
+    time_s (m,) [s], winding_temp_c (m, j) [degC]: the winding's hottest temperature in each shown
+        repetition of the plan over the whole test (for the report; m is small)
+    phase_temp_c (n, j): temperature at each plan sample in its hottest repetition (the steady state,
+        or the last repetition within a finite test); what the winding-temperature check judges
+    ambient_c, max_temp_c (j,): ambient and the winding limit per joint [degC]
+    time_to_limit_s: joint -> first time the winding reaches its limit [s], None when it does not
+        (within the test)
+    runaway: joint -> True when no steady state exists (the loss grows faster with temperature than
+        the cooling removes it); steady_peak_c: joint -> hottest periodic steady-state temperature
+        [degC] (inf with runaway); rms_current_a (j,): RMS current over one plan period [A];
+        period_s: the plan period [s]
     """
 
     joint_names: tuple[str, ...]
@@ -148,6 +157,22 @@ class ThermalResult:
     phase_temp_c: np.ndarray
     duration_s: float
     time_to_limit_s: dict = field(default_factory=dict)
+    runaway: dict = field(default_factory=dict)
+    steady_peak_c: dict = field(default_factory=dict)
+    rms_current_a: np.ndarray | None = None
+    period_s: float = 0.0
+
+    @property
+    def periodic(self) -> bool:
+        """True when the plan is taken as repeated for as long as the test runs (no --duration)."""
+        return math.isinf(self.duration_s)
+
+    def describe(self) -> str:
+        """Which test the thermal check assumed, in words."""
+        if self.periodic:
+            return (f"plan ({self.period_s:g} s) repeated for as long as the test runs (periodic steady state; "
+                    f"--duration S for a finite test)")
+        return f"a {self.duration_s:g} s test, the {self.period_s:g} s plan repeated"
 
 
 @dataclass(frozen=True, eq=False)

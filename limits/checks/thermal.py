@@ -1,14 +1,32 @@
-"""Winding thermal model: copper loss in, temperature out, exact discretisation, vectorised.
+"""Winding thermal model over the real test: copper loss with a temperature-dependent resistance,
+the plan repeated for as long as the test runs, vectorised.
 
-One node:  C dT/dt = P - (T - T_amb) / R_th,  tau = R_th C,  P = R I^2 (DC-equivalent R and I,
-           robots.robot; for a three-phase motor this is the total copper loss).
+One node:  C dT/dt = P - (T - T_amb) / R_th,  tau = R_th C
 Two nodes (ThermalModel.two_node): winding w and housing h,
            C_w dT_w/dt = P - (T_w - T_h) / R_w
-           C_h dT_h/dt = (T_w - T_h) / R_w - (T_h - T_amb) / R_h,   C_w = tau_w / R_w, C_h = tau_h / R_h.
-The loss is held constant over each sample (zero-order hold) and the state update is the exact
-matrix exponential of that hold (first order: T[k+1] = a T[k] + (1 - a) R_th P[k], a = exp(-dt/tau)),
-run with scipy.signal.lfilter over the whole test duration with the plan's loss repeated
-periodically. Temperatures start at ambient. Times [s], temperatures [degC], powers [W].
+           C_h dT_h/dt = (T_w - T_h) / R_w - (T_h - T_amb) / R_h,   C_w = tau_w / R_w, C_h = tau_h / R_h
+Loss:      P = R(T_w) I^2,  R(T) = R_ref (1 + alpha (T - T_ref))  (DC-equivalent R and I; for a
+           three-phase motor this is the total copper loss).
+
+With x the temperatures above ambient, each sample (current held constant over it, zero-order
+hold) is an exact affine map x[k+1] = M_k x[k] + v_k: the loss term alpha R_ref I^2 T_w makes the
+system matrix depend on the current, A_k = A_0 + alpha R_ref I_k^2 / C_w e_w e_w^T, and
+[M_k v_k] comes from the matrix exponential of [[A_k, b_k], [0, 0]] dt (closed form for one node).
+An associative scan composes the maps into the plan period's map x_end = Phi x_start + Gamma.
+Starting at ambient, the state at the start of repetition j is x_j = (I - Phi^j)(I - Phi)^-1 Gamma,
+and every temperature rises with j (the maps are nonnegative), so:
+
+- a finite test (``duration_s``) covers exactly that time; each plan sample is judged at its last,
+  hottest repetition within the test;
+- by default the plan is repeated for as long as the test runs: each sample is judged at the
+  periodic steady state x* = (I - Phi)^-1 Gamma;
+- the time to the winding limit is the first repetition (found by bisection) and sample whose
+  temperature reaches it; None when it is never reached (within the test);
+- thermal runaway: when the spectral radius of Phi is >= 1 (one node: alpha R_ref mean(I^2) R_th >= 1,
+  the loss grows faster with temperature than the cooling) no steady state exists and the winding
+  heats without bound.
+
+Times [s], temperatures [degC], currents [A], powers [W].
 """
 
 from __future__ import annotations
@@ -17,74 +35,232 @@ import math
 
 import numpy as np
 import scipy.linalg
-import scipy.signal
 
 from legbridge.robots.robot import ThermalModel
 
 from .results import ThermalResult
 
+DISPLAY_POINTS = 240  # points of the temperature-over-the-test trace (one per shown repetition)
+RUNAWAY_TOL = 1e-12
 
-def discrete_filter(th: ThermalModel, dt_s: float) -> tuple[np.ndarray, np.ndarray]:
-    """(b, a) of the exact zero-order-hold discretisation from loss [W] to winding rise [K].
 
-    y[k] is the rise at time k dt after the losses P[0..k-1] (so y[0] = 0).
-    """
+def _system(th: ThermalModel) -> tuple[np.ndarray, float]:
+    """(A_0 (d, d) [1/s], C_w [J/K]) of the network without the temperature-dependent loss."""
     rw, tw = th.winding_resistance_k_per_w, th.winding_time_constant_s
+    cw = tw / rw
     if not th.two_node:
-        a = math.exp(-dt_s / tw)
-        return np.array([0.0, (1.0 - a) * rw]), np.array([1.0, -a])
+        return np.array([[-1.0 / tw]]), cw
     rh, thh = th.housing_resistance_k_per_w, th.housing_time_constant_s
-    cw, ch = tw / rw, thh / rh
-    A = np.array([[-1.0 / (rw * cw), 1.0 / (rw * cw)],
-                  [1.0 / (rw * ch), -(1.0 / rw + 1.0 / rh) / ch]])
-    B = np.array([[1.0 / cw], [0.0]])
-    M = np.zeros((3, 3))
-    M[:2, :2], M[:2, 2:] = A * dt_s, B * dt_s
-    E = scipy.linalg.expm(M)
-    Ad, Bd = E[:2, :2], E[:2, 2:]
-    b, a = scipy.signal.ss2tf(Ad, Bd, np.array([[1.0, 0.0]]), np.zeros((1, 1)))
-    return np.asarray(b[0], dtype=float), np.asarray(a, dtype=float)
+    ch = thh / rh
+    return np.array([[-1.0 / (rw * cw), 1.0 / (rw * cw)],
+                     [1.0 / (rw * ch), -(1.0 / rw + 1.0 / rh) / ch]]), cw
 
 
-def temperature_rise_k(th: ThermalModel, loss_w, dt_s: float) -> np.ndarray:
-    """Winding rise above ambient [K] at times 0, dt, ..., len(loss) dt for a loss sequence [W]."""
-    b, a = discrete_filter(th, dt_s)
-    p = np.concatenate([np.asarray(loss_w, dtype=float), [0.0]])
-    return scipy.signal.lfilter(b, a, p)
+def sample_maps(th: ThermalModel, resistance_ohm: float, current_a, dt_s: float) -> tuple[np.ndarray, np.ndarray]:
+    """Exact zero-order-hold maps (M (n, d, d), v (n, d)) of x (temperatures above ambient) over one
+    sample of each current [A]; resistance_ohm is R_ref, the winding resistance at T_ref."""
+    i2 = np.square(np.asarray(current_a, dtype=float))
+    a0, cw = _system(th)
+    d = a0.shape[0]
+    alpha = th.resistance_temp_coefficient_per_k
+    gain = alpha * resistance_ohm * i2 / cw                                          # [1/s]
+    drive = resistance_ohm * i2 * th.resistance_factor(th.ambient_temp_c) / cw        # [K/s]
+    n = i2.shape[0]
+    if d == 1:
+        lam = a0[0, 0] + gain
+        z = lam * dt_s
+        m = np.exp(z)
+        small = np.abs(z) < 1e-8
+        safe = np.where(small, 1.0, z)
+        phi = np.where(small, 1.0 + 0.5 * z, np.expm1(z) / safe)  # (e^z - 1) / z
+        return m.reshape(n, 1, 1), (drive * dt_s * phi).reshape(n, 1)
+    aug = np.zeros((n, d + 1, d + 1))
+    aug[:, :d, :d] = a0 * dt_s
+    aug[:, 0, 0] += gain * dt_s
+    aug[:, 0, d] = drive * dt_s
+    e = scipy.linalg.expm(aug)
+    return e[:, :d, :d], e[:, :d, d]
 
 
-def copper_loss_w(resistance_ohm, current_a) -> np.ndarray:
-    """Copper loss P = R I^2 [W]."""
-    return np.asarray(resistance_ohm, dtype=float) * np.square(np.asarray(current_a, dtype=float))
+def prefix_maps(m: np.ndarray, v: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Inclusive scan of the affine maps: (P (n + 1, d, d), p (n + 1, d)) with x[k] = P_k x[0] + p_k.
+
+    Hillis-Steele scan: log2(n) passes of batched compositions (x -> M2 (M1 x + v1) + v2), so the
+    cost is O(n log n) in NumPy with O(n) memory and no loop over samples.
+    """
+    n, d, _ = m.shape
+    big_p = np.empty((n + 1, d, d))
+    big_p[0] = np.eye(d)
+    big_p[1:] = m
+    small_p = np.zeros((n + 1, d))
+    small_p[1:] = v
+    step = 1
+    while step <= n:  # after this pass, entry k composes the maps of samples max(0, k - 2 step) .. k - 1
+        later_p, later_v = big_p[step:], small_p[step:]
+        earlier_p, earlier_v = big_p[:-step], small_p[:-step]
+        new_v = np.einsum("kij,kj->ki", later_p, earlier_v) + later_v
+        new_p = later_p @ earlier_p
+        big_p[step:], small_p[step:] = new_p, new_v
+        step *= 2
+    return big_p, small_p
+
+
+class _Period:
+    """One joint's plan period as maps: the winding rise at repetition j and sample k."""
+
+    def __init__(self, big_p, small_p):
+        self.P, self.p = big_p, small_p
+        self.phi, self.gamma = big_p[-1], small_p[-1]
+        d = self.phi.shape[0]
+        self.eye = np.eye(d)
+        self.rho = float(np.max(np.abs(np.linalg.eigvals(self.phi))))
+        self.runaway = self.rho >= 1.0 - RUNAWAY_TOL
+        self.x_steady = None if self.runaway else np.linalg.solve(self.eye - self.phi, self.gamma)
+
+    def start(self, j: int) -> np.ndarray:
+        """State at the start of repetition j (0-based) from ambient: sum_{i<j} Phi^i Gamma."""
+        if j <= 0:
+            return np.zeros_like(self.gamma)
+        if not self.runaway:
+            return (self.eye - np.linalg.matrix_power(self.phi, int(j))) @ self.x_steady
+        # runaway: sum_{i<j} Phi^i Gamma by binary splitting, S(2a) = S(a) + Phi^a S(a) (powers of one
+        # matrix commute, so the bits of j can be taken in any order); it grows without bound
+        with np.errstate(over="ignore", invalid="ignore"):
+            s_a, pw_a = self.eye.copy(), self.phi.copy()          # S(a), Phi^a for a = 1
+            total, total_pw = np.zeros_like(self.eye), self.eye.copy()
+            k = int(j)
+            while k:
+                if k & 1:
+                    total = total + total_pw @ s_a
+                    total_pw = total_pw @ pw_a
+                s_a = s_a + pw_a @ s_a
+                pw_a = pw_a @ pw_a
+                k >>= 1
+            return total @ self.gamma
+
+    def rise(self, x_start) -> np.ndarray:
+        """Winding rise [K] at every sample k = 0..n of a repetition starting at ``x_start``."""
+        return np.einsum("kj,j->k", self.P[:, 0, :], x_start) + self.p[:, 0]
+
+    def steady_rise(self) -> np.ndarray:
+        return np.full(self.P.shape[0], np.inf) if self.runaway else self.rise(self.x_steady)
+
+
+def _first_crossing(per: _Period, limit_rise: float, j_max: int | None) -> tuple[int, int] | None:
+    """(repetition j, sample k) where the winding first reaches ``limit_rise`` [K], or None (not within
+    j_max repetitions; j_max None: ever)."""
+    def reached(j):
+        return bool(np.any(~(per.rise(per.start(j)) < limit_rise)))  # NaN counts as reached (fail closed)
+
+    if j_max is None:
+        if not per.runaway and not np.any(~(per.steady_rise() < limit_rise)):
+            return None
+        hi = 1
+        while not reached(hi):
+            hi *= 2
+            if hi > 2**62:
+                return None
+    else:
+        if j_max < 0 or not reached(j_max):
+            return None
+        hi = j_max
+    lo = -1  # reached(lo) is False by construction (before the test)
+    while hi - lo > 1:
+        mid = (lo + hi) // 2
+        if reached(mid):
+            hi = mid
+        else:
+            lo = mid
+    r = per.rise(per.start(hi))
+    k = int(np.flatnonzero(~(r < limit_rise))[0])
+    return hi, k
 
 
 def simulate(traj, robot, duration_s: float | None = None) -> ThermalResult:
-    """Simulate every joint's winding over ``duration_s`` (None or shorter than the plan: one plan
-    period) with the plan's copper loss repeated periodically."""
+    """Every joint's winding over the test: ``duration_s`` [s] of the plan repeated, or (None) the
+    plan repeated for as long as the test runs (periodic steady state). See the module docstring."""
     n = traj.n_samples
     dt = 1.0 / float(traj.rate_hz)
     period = n * dt
-    duration = period if duration_s is None else max(float(duration_s), period)
-    m = int(math.ceil(duration / dt - 1e-9))
-    reps = int(math.ceil(m / n))
+    finite = duration_s is not None
+    m = int(math.ceil(float(duration_s) / dt - 1e-9)) if finite else None  # samples the test runs
     joints = [robot.joint(name) for name in traj.joint_names]
-    temps = np.empty((m + 1, len(joints)))
+    nj = len(joints)
     amb = np.array([j.actuator.thermal.ambient_temp_c for j in joints])
     tmax = np.array([j.actuator.thermal.max_winding_temp_c for j in joints])
-    for k, joint in enumerate(joints):  # one filter per joint (coefficients differ), not per sample
-        loss = copper_loss_w(joint.actuator.winding_resistance_ohm, traj.current_a[:, k])
-        loss = np.tile(loss, reps)[:m]
-        temps[:, k] = amb[k] + temperature_rise_k(joint.actuator.thermal, loss, dt)
-    time = np.arange(m + 1) * dt
-    # Sample p of the plan is last run at index p + n * floor((m - 1 - p) / n) (heating is monotone
-    # in the repetition for these positive-response networks, so that is the hottest pass).
-    p = np.arange(n)
-    last = p + n * ((m - 1 - p) // n)
-    phase = temps[last]
-    ttl = {}
-    for k, joint in enumerate(joints):
-        hit = np.flatnonzero(~(temps[:, k] < tmax[k]))  # NaN counts as reached (fail closed)
-        ttl[joint.name] = float(time[hit[0]]) if hit.size else None
-    for a in (time, temps, phase, amb, tmax):
+    phase = np.empty((n, nj))
+    ttl, runaway, steady_peak = {}, {}, {}
+    rms = np.sqrt(np.mean(np.square(np.asarray(traj.current_a, dtype=float)), axis=0)) if n else np.zeros(nj)
+    periods = []
+    for k, joint in enumerate(joints):  # one scan per joint (coefficients differ), no loop over samples
+        act = joint.actuator
+        per = _Period(*prefix_maps(*sample_maps(act.thermal, act.winding_resistance_ohm, traj.current_a[:, k], dt)))
+        periods.append(per)
+        runaway[joint.name] = per.runaway
+        limit_rise = tmax[k] - amb[k]
+        steady = per.steady_rise()
+        steady_peak[joint.name] = float(amb[k] + np.max(steady, initial=-np.inf))
+        if finite:
+            # sample p of the plan last runs in repetition floor((m - 1 - p) / n), the hottest one
+            p_idx = np.arange(n)
+            last = (m - 1 - p_idx) // n
+            rises = np.empty(n)
+            for j in np.unique(last[last >= 0]):  # at most two repetitions: the last full one and the partial one
+                sel = last == j
+                rises[sel] = per.rise(per.start(int(j)))[:-1][sel]  # at each sample's own time
+            if np.any(last < 0):  # samples the test never reaches: the temperature at its end
+                j_end, k_end = divmod(m, n)
+                rises[last < 0] = per.rise(per.start(j_end))[k_end]
+            phase[:, k] = amb[k] + rises
+            hit = _first_crossing(per, limit_rise, (m - 1) // n if m > 0 else -1)
+            t_hit = None if hit is None else hit[0] * period + hit[1] * dt
+            ttl[joint.name] = t_hit if t_hit is not None and t_hit <= m * dt + 1e-12 else None
+        else:
+            phase[:, k] = amb[k] + steady[:-1]
+            hit = _first_crossing(per, limit_rise, None)
+            ttl[joint.name] = None if hit is None else hit[0] * period + hit[1] * dt
+    time, temps = _display(periods, amb, period, dt, m, ttl)
+    for a in (time, temps, phase, amb, tmax, rms):
         a.setflags(write=False)
-    return ThermalResult(tuple(traj.joint_names), time, temps, amb, tmax, phase, duration, ttl)
+    return ThermalResult(tuple(traj.joint_names), time, temps, amb, tmax, phase,
+                         float(duration_s) if finite else math.inf, ttl, runaway=runaway,
+                         steady_peak_c=steady_peak, rms_current_a=rms, period_s=period)
+
+
+def _display(periods, amb, period: float, dt: float, m: int | None, ttl: dict):
+    """(time (p,), winding temperature (p, j)) over the whole assumed test for the report: at most
+    DISPLAY_POINTS repetitions, each drawn at its hottest sample (finite test: up to its end;
+    otherwise until the steady state is reached or, with runaway, past the time to limit)."""
+    if m is not None:
+        j_end = max(1, int(math.ceil(m * dt / period - 1e-9)))
+    else:
+        horizon = 0.0
+        for per in periods:
+            if per.runaway:
+                continue
+            # repetitions until Phi^j has decayed to 1 % (spectral radius rho per repetition)
+            horizon = max(horizon, math.log(0.01) / math.log(max(per.rho, 1e-300)) if per.rho > 0 else 1.0)
+        hits = [t for t in ttl.values() if t is not None]
+        horizon = max(horizon, 1.2 * max(hits) / period if hits else 0.0, 1.0)
+        j_end = int(math.ceil(horizon))
+    js = np.unique(np.linspace(0, j_end, min(DISPLAY_POINTS, j_end + 1)).round().astype(int))
+    time = js * period
+    temps = np.empty((js.size, len(periods)))
+    for c, per in enumerate(periods):
+        for r, j in enumerate(js):  # one O(n) evaluation per shown repetition
+            if j == 0:
+                temps[r, c] = amb[c]
+                continue
+            x0 = per.start(int(j) - 1)
+            rise = per.rise(x0)
+            if m is not None and j * period > m * dt:  # the last, partial repetition ends with the test
+                rise = rise[: m - (int(j) - 1) * (len(rise) - 1) + 1]
+            temps[r, c] = amb[c] + float(np.max(rise))
+    return time.astype(float), temps
+
+
+def rise_from_ambient_k(th: ThermalModel, resistance_ohm: float, current_a, dt_s: float) -> np.ndarray:
+    """Winding rise above ambient [K] at times 0, dt, ..., n dt for one pass of a current sequence [A]
+    (no repetition), starting at ambient; resistance_ohm is R_ref."""
+    _, p = prefix_maps(*sample_maps(th, resistance_ohm, current_a, dt_s))
+    return p[:, 0]

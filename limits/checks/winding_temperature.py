@@ -1,6 +1,7 @@
-"""Continuous current through the winding thermal model (limits.checks.thermal): the winding temperature
-rise above ambient at each plan sample during its last (hottest) repetition over the test duration,
-against the allowed rise (max winding temperature - ambient). value and allowed: rise [K]."""
+"""Winding temperature through the thermal model (limits.checks.thermal): the rise above ambient at
+each plan sample in its hottest repetition over the assumed test (periodic steady state by default,
+or the last repetition within --duration), against the allowed rise (max winding temperature -
+ambient). Thermal runaway gives an infinite rise (exceeds). value and allowed: rise [K]."""
 
 from __future__ import annotations
 
@@ -18,7 +19,8 @@ def evaluate(ctx: CheckContext):
         rise = th.phase_temp_c[:, k] - th.ambient_c[k]
         allowed = th.max_temp_c[k] - th.ambient_c[k]
         out.append(trace("winding_temperature", joint.name, "K", rise, allowed, ratio(rise, allowed),
-                         source=f"winding thermal model over {th.duration_s:g} s"))
+                         source="winding thermal model: " + th.describe()
+                                + ("; thermal runaway (no steady state)" if th.runaway.get(joint.name) else "")))
     return tuple(out)
 
 

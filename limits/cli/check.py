@@ -47,7 +47,7 @@ def run(args) -> int:
     check_outputs([args.output, args.modified_targets], inputs=[args.plan, robot_path], force=args.force)
     prepared = prepare(args.plan, robot_path, rate_hz=settings.rate_hz)
     cases = check_plan(prepared.trajectories, prepared.robot, settings)
-    review = assemble_review(prepared.plan, prepared.robot, settings, cases)
+    review = assemble_review(prepared.plan, prepared.robot, settings, cases, warnings=prepared.warnings)
     paths = {}
     if args.output:
         paths["review"] = write_json(review_to_json(review), args.output, force=args.force)

@@ -17,6 +17,7 @@ Schema (every number SI; a number that is not finite is written as null; times i
                     n_exceeds, n_near}
     sweep           null, or {window: {lo_m, hi_m, n_within}, offsets: n, note} (sweep.json has the rest)
     sweep_note      why no ground-height sweep was run, or ''
+    warnings        what the plan and the robot disagree on without a refusal (leg length, mass)
 
     cases           one object per case, in plan order:
       name, ground_height_m
@@ -28,7 +29,9 @@ Schema (every number SI; a number that is not finite is written as null; times i
       segments      list of {joint ('' = whole leg), limit, severity ("exceeds" | "near"),
                     t_start_s, t_end_s, i_start, i_end (sample indices, inclusive), peak, allowed,
                     unit, utilisation}
-      thermal       {duration_s, max_winding_temp_c: joint -> highest simulated temperature [degC],
+      thermal       {duration_s (null: the plan repeated for as long as the test runs), periodic,
+                    assumed_test (in words), max_winding_temp_c: joint -> hottest temperature in the
+                    assumed test [degC], steady_state_peak_c, runaway: joint -> bool, rms_current_a,
                     limit_temp_c: joint -> limit, time_to_limit_s: joint -> time or null}
       regen_energy_j_per_step   list of energies regenerated per step [J]
       power_w       {peak_motor_w: joint -> W, peak_total_w, min_total_w}
@@ -91,8 +94,10 @@ def case_to_json(case) -> dict:
         "findings": list(case.findings),
         "segments": [{k: getattr(g, k) for k in ("joint", "limit", "severity", "t_start_s", "t_end_s", "i_start", "i_end",
                                                    "peak", "allowed", "unit", "utilisation")} for g in case.segments],
-        "thermal": {"duration_s": th.duration_s,
-                    "max_winding_temp_c": {n: float(np.max(th.winding_temp_c[:, i])) for i, n in enumerate(th.joint_names)},
+        "thermal": {"duration_s": th.duration_s, "periodic": th.periodic, "assumed_test": th.describe(),
+                    "max_winding_temp_c": {n: float(np.max(th.phase_temp_c[:, i])) for i, n in enumerate(th.joint_names)},
+                    "steady_state_peak_c": dict(th.steady_peak_c), "runaway": dict(th.runaway),
+                    "rms_current_a": {n: float(th.rms_current_a[i]) for i, n in enumerate(th.joint_names)},
                     "limit_temp_c": {n: float(th.max_temp_c[i]) for i, n in enumerate(th.joint_names)},
                     "time_to_limit_s": dict(th.time_to_limit_s)},
         "regen_energy_j_per_step": [] if case.regen_energy_j is None else case.regen_energy_j,
@@ -144,6 +149,7 @@ def review_to_json(review: Review) -> dict:
         "cases": [case_to_json(c) for c in review.cases],
         "sweep": _sweep(review),
         "sweep_note": review.sweep_note,
+        "warnings": list(review.warnings),
     }
     return json_ready(doc)
 

@@ -33,6 +33,7 @@ class Review:
     sweep: a limits.sweep.model.SweepResult of the plan's open-loop policy, or None
     provenance: tool and dependency versions (legbridge.robots.version.provenance)
     created: ISO 8601 time of the review; sweep_note: why no sweep was run, when one was asked for
+    warnings: what the plan and robot disagree on without being refused (leg length, mass)
     timings_s: wall time of each stage [s]
     """
 
@@ -46,6 +47,7 @@ class Review:
     created: str = ""
     sweep_note: str = ""
     timings_s: dict = field(default_factory=dict)
+    warnings: tuple[str, ...] = ()
 
     @property
     def summaries(self) -> tuple[CaseSummary, ...]:
@@ -83,7 +85,7 @@ def now_iso() -> str:
 
 
 def assemble_review(plan, robot, settings: CheckSettings | None, cases, *, sweep=None, created: str | None = None,
-                    sweep_note: str = "", timings_s: dict | None = None) -> Review:
+                    sweep_note: str = "", timings_s: dict | None = None, warnings=()) -> Review:
     """A Review of already checked cases: ranks them once and records the provenance."""
     from legbridge.robots.version import provenance, qp_solver_version
 
@@ -92,7 +94,7 @@ def assemble_review(plan, robot, settings: CheckSettings | None, cases, *, sweep
     prov = provenance()
     prov["qp_solver"] = f"{settings.solver.upper()} {qp_solver_version(settings.solver) or '(version unknown)'}"
     return Review(plan, robot, settings, cases, rank(c.summary for c in cases), sweep, prov, created or now_iso(),
-                  sweep_note, dict(timings_s or {}))
+                  sweep_note, dict(timings_s or {}), tuple(warnings))
 
 
 def _sweep(prepared, settings, sweep, jobs, say):
@@ -147,7 +149,7 @@ def build_review(plan, robot, settings: CheckSettings | None = None, *, sweep=SW
     swept, note = _sweep(prepared, settings, sweep, jobs, say)
     timings["sweep_s"] = time.perf_counter() - t
     return assemble_review(plan, robot, settings, cases, sweep=swept, created=created, sweep_note=note,
-                           timings_s=timings)
+                           timings_s=timings, warnings=prepared.warnings)
 
 
 __all__ = ["Progress", "Review", "SWEEP_AUTO", "assemble_review", "build_review", "now_iso"]

@@ -33,6 +33,9 @@ def identity_lines(review: Review, command: str) -> list[str]:
     scaling = getattr(plan, "scaling", None)
     if scaling is not None:
         out.append(f"  {scaling.describe()}")
+    if review.cases:
+        out.append(f"  winding temperature: {review.cases[0].thermal.describe()}")
+    out.extend(f"  Warning: {w}" for w in review.warnings)
     return out
 
 
@@ -49,6 +52,10 @@ def case_lines(review: Review) -> list[str]:
         for f in c.findings:
             out.append(f"  {'':<{width}}  could not be evaluated: {f}")
         for j, t in c.thermal.time_to_limit_s.items():
+            if c.thermal.runaway.get(j):
+                when = "repeated" if c.thermal.periodic else "if the plan were repeated without end"
+                out.append(f"  {'':<{width}}  {j} winding: thermal runaway {when} (its copper loss grows faster with "
+                           f"temperature than it cools: no steady state)")
             if t is not None:
                 out.append(f"  {'':<{width}}  {j} winding reaches its temperature limit after {t:.1f} s")
     return out

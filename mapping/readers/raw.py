@@ -183,8 +183,12 @@ def build_plan(raw: RawPlan, *, robot=None, force_threshold_n=None) -> Plan:
         metadata["model"] = dict(raw.model)
     phase_source = {}
     cases = []
+    from .plausibility import check_leg_angle_units
+
     for c in raw.cases:
         col = scaling.scale_columns(c.columns, sc)
+        # a leg angle in degrees is named as such before it turns an axial force the wrong way
+        check_leg_angle_units(col["leg_angle_rad"], path=raw.path, case=c.name, time_s=col.get("time_s"))
         if validation.AXIAL_FORCE_COLUMN in col:
             fx, fz = axial_to_xz(col[validation.AXIAL_FORCE_COLUMN], col["leg_angle_rad"])
         else:

@@ -32,7 +32,9 @@ def test_voltage_by_hand_all_four_quadrants(example_robot, make_traj):
     tau = np.array([[20.0, 0], [-20.0, 0], [-20.0, 0], [20.0, 0]])  # motoring, braking, motoring, braking
     r = check_case(make_traj(example_robot, np.tile([0.1, -1.0], (4, 1)), qd=qd, tau=tau), example_robot, QUICK)
     v = _trace(r, "voltage", "hip").value
-    n, eta, kt, res, ke = 10.0, 0.9, 0.12, 0.25, act.back_emf_v_s_per_rad
+    # the winding resistance at the winding limit: 0.25 ohm (1 + 0.00393 /K (120 - 25) K) (copper's
+    # temperature coefficient, common practice): the voltage check holds however warm the winding is
+    n, eta, kt, res, ke = 10.0, 0.9, 0.12, 0.25 * (1 + 0.00393 * (120.0 - 25.0)), act.back_emf_v_s_per_rad
     # by hand: motoring I = tau / (eta N Kt), braking (power into the motor) I = eta tau / (N Kt)
     i = np.array([20 / (eta * n * kt), -20 * eta / (n * kt), -20 / (eta * n * kt), 20 * eta / (n * kt)])
     w = n * qd[:, 0]

@@ -8,6 +8,8 @@ Kraige, Engineering Mechanics: Statics, ch. 2): at mid-stance the knee torque is
 knee's distance from the hip-foot line: Heron's formula on the triangle (0.40 m thigh, 0.42 m shank,
 0.72 m hip-foot) gives h = 0.1961 m, so 400 N needs about 78.4 N m against the knee's peak
 0.9 * 12 * 0.12 N m/A * 40 A = 51.84 N m (the leg's own weight and inertia change this by < 2 %).
+The reviews state a 1 s test (--duration 1): the cases are about peak torque, judged without the
+heat of an endless repetition.
 """
 
 from __future__ import annotations
@@ -69,7 +71,7 @@ def reviewed(three_case_plan, tmp_path_factory):
 
     buf = io.StringIO()
     with redirect_stdout(buf):
-        code = main(["review", three_case_plan, "--robot", ROBOT, "-o", str(out), "--rate", "200"])
+        code = main(["review", three_case_plan, "--robot", ROBOT, "-o", str(out), "--rate", "200", "--duration", "1"])
     return code, out, buf.getvalue()
 
 
@@ -119,7 +121,7 @@ def test_terminal_summary(reviewed):
 
 def test_within_plan_exits_0(tmp_path, capsys):
     plan = _plan_file(tmp_path / "easy.json", [_case("nominal", 150.0, n=31)])
-    assert main(["review", plan, "--robot", ROBOT, "-o", str(tmp_path / "out"), "--rate", "100"]) == 0
+    assert main(["review", plan, "--robot", ROBOT, "-o", str(tmp_path / "out"), "--rate", "100", "--duration", "1"]) == 0
     assert VERDICT_WITHIN in capsys.readouterr().out
     assert sorted(p.name for p in (tmp_path / "out").iterdir()) == OUTPUTS
 
@@ -146,7 +148,7 @@ def test_bad_input_exits_2_and_writes_nothing(tmp_path, capsys, three_case_plan,
 def test_no_overwrite_without_force(reviewed, three_case_plan, capsys):
     _, out, _ = reviewed
     before = {p.name: p.read_bytes() for p in out.iterdir()}
-    assert main(["review", three_case_plan, "--robot", ROBOT, "-o", str(out), "--rate", "200"]) == 2
+    assert main(["review", three_case_plan, "--robot", ROBOT, "-o", str(out), "--rate", "200", "--duration", "1"]) == 2
     assert "--force" in capsys.readouterr().err
     assert {p.name: p.read_bytes() for p in out.iterdir()} == before
 
@@ -157,9 +159,9 @@ def test_force_overwrites_and_api_outcome(three_case_plan, tmp_path):
     (out / REPORT_HTML).write_text("old")
     (out / "notes.txt").write_text("the user's own file")
     with pytest.raises(OutputExistsError, match="report.html"):
-        run_review(three_case_plan, ROBOT, CheckSettings(rate_hz=100.0), out)
+        run_review(three_case_plan, ROBOT, CheckSettings(rate_hz=100.0, duration_s=1.0), out)
     seen = []
-    res = run_review(three_case_plan, ROBOT, CheckSettings(rate_hz=100.0), out, force=True, progress=seen.append)
+    res = run_review(three_case_plan, ROBOT, CheckSettings(rate_hz=100.0, duration_s=1.0), out, force=True, progress=seen.append)
     assert res.exit_code == 1 and [r.case for r in res.review.cases] == ["nominal", "step-up", "drop"]
     assert [r.verdict.words for r in res.review.cases] == [VERDICT_WITHIN, VERDICT_NEAR, VERDICT_EXCEEDS]
     assert (out / REPORT_HTML).read_text() != "old" and (out / "notes.txt").read_text() == "the user's own file"

@@ -42,12 +42,13 @@ def short_plan_file(short_plan, tmp_path_factory):
 
 @pytest.fixture(scope="module")
 def ample_robot(tmp_path_factory):
-    """The lab-biped leg with drive currents, bus voltage and ranges far above what the gait asks
+    """The lab-biped leg with drive currents, bus voltage, cooling and ranges far above what the gait asks
     (so the hardware check passes and only the reduced model can close the window)."""
     text = library_path("lab-biped-leg.toml").read_text()
     text = re.sub(r"peak_current_a = [0-9.]+", "peak_current_a = 2000.0", text)
     text = re.sub(r"continuous_current_a = [0-9.]+", "continuous_current_a = 1000.0", text)
     text = re.sub(r"bus_voltage_v = [0-9.]+", "bus_voltage_v = 2000.0", text)
+    text = re.sub(r"(?m)^(housing_)?thermal_resistance_k_per_w = [0-9.]+", r"\1thermal_resistance_k_per_w = 0.001", text)  # cold
     text = text.replace('name = "lab-biped-leg"', 'name = "ample-leg"').replace("ground_friction = 0.7", "ground_friction = 5.0")
     p = tmp_path_factory.mktemp("robot") / "ample-leg.toml"
     p.write_text(text)

@@ -1,4 +1,8 @@
-"""Inverse kinematics against the textbook two-link solution, round trips, and the three-joint rule."""
+"""Inverse kinematics against the textbook two-link solution, round trips, the three-joint rule, and URDF legs
+with offsets driven beyond reach (Pinocchio forward kinematics and an independent circle construction)."""
+
+import math
+from pathlib import Path
 
 import numpy as np
 import pinocchio as pin
@@ -6,10 +10,13 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from legbridge.mapping.ik import chain_ik, dls_ik, two_link_ik
-from legbridge.mapping.joint_trajectory import FLAG_UNREACHABLE
+from legbridge.mapping.ik import PlanarChain, chain_ik, dls_ik, offset_chain_ik, planar_chain, two_link_ik, wrap_angle
+from legbridge.mapping.joint_trajectory import FLAG_IK_NOT_CONVERGED, FLAG_NONFINITE, FLAG_UNREACHABLE
 from legbridge.mapping.kinematics import chain_foot, chain_jacobian, chain_jdot_qd, leg_vector
+from legbridge.robots import build_leg_model, load_robot
+from legbridge.robots.errors import LegbridgeError
 from legbridge.robots.leg_model import BASE_JOINTS, FOOT_FRAME, HIP_FRAME, index_model
+from legbridge.robots.library import library_path
 
 L1, L2 = 0.40, 0.42  # the example leg's thigh and shank (invented values)
 
@@ -195,3 +202,265 @@ def test_general_path_on_an_offset_leg(example_robot):
     ref = np.column_stack([ldot * np.sin(ag) + lg * adot * np.cos(ag), -ldot * np.cos(ag) + lg * adot * np.sin(ag)])
     np.testing.assert_allclose(np.einsum("nij,nj->ni", jt.jacobian, jt.qd), ref, atol=2e-3 * np.abs(ref).max())
     np.testing.assert_allclose(jt.tau, jt.tau_free - np.einsum("nij,ni->nj", jt.jacobian, jt.foot_force_n), atol=1e-9)
+
+
+# --- IK that cannot diverge: URDF legs with offsets, targets beyond reach ---------------------------
+
+# Offsets written into the bundled spatial-leg URDF below (invented): the knee 3 cm ahead of the
+# thigh axis, the foot link 2 cm behind the shank axis, plus the TOML's 2 cm sole below the foot link.
+A1 = np.array([0.03, -0.38])              # hip_pitch -> knee, (x, z) [m]
+A2 = np.array([-0.02, -0.38 - 0.02])      # knee -> contact point [m]
+A3 = np.array([0.04, -0.06 - 0.02])       # ankle -> contact point of the three-joint variant [m]
+R_MAX = float(np.hypot(*A1) + np.hypot(*A2))
+KNEE_ORIGIN = '<origin xyz="0 0 -0.38"/>\n    <axis xyz="0 1 0"/>\n    <limit lower="-2.6"'
+FOOT_JOINT = ('<joint name="foot_fixed" type="fixed">\n    <parent link="shank"/><child link="foot"/>\n'
+              '    <origin xyz="0 0 -0.38"/>\n  </joint>')
+ANKLE = """<link name="pes">
+    <inertial><origin xyz="0 0 -0.03"/><mass value="0.3"/>
+      <inertia ixx="0.001" iyy="0.001" izz="0.0005" ixy="0" ixz="0" iyz="0"/></inertial>
+  </link>
+  <joint name="ankle" type="revolute">
+    <parent link="shank"/><child link="pes"/>
+    <origin xyz="-0.02 0 -0.38"/>
+    <axis xyz="0 1 0"/>
+    <limit lower="-1.2" upper="1.2" effort="40" velocity="12"/>
+  </joint>
+  <joint name="foot_fixed" type="fixed">
+    <parent link="pes"/><child link="foot"/>
+    <origin xyz="0.04 0 -0.06"/>
+  </joint>"""
+
+
+def write_offset_leg(folder: Path, ankle: bool = False):
+    """The bundled spatial leg with the offsets above, read through the URDF reader -> (robot, LegModel)."""
+    urdf = Path(library_path("spatial-leg.urdf")).read_text()
+    toml = Path(library_path("spatial-leg.toml")).read_text()
+    assert urdf.count(KNEE_ORIGIN) == 1 and urdf.count(FOOT_JOINT) == 1
+    urdf = urdf.replace(KNEE_ORIGIN, KNEE_ORIGIN.replace('xyz="0 0 -0.38"', 'xyz="0.03 0 -0.38"'))
+    if ankle:
+        urdf = urdf.replace(FOOT_JOINT, ANKLE)
+        toml = toml.replace('leg_joints = ["hip_pitch", "knee"]', 'leg_joints = ["hip_pitch", "knee", "ankle"]')
+        knee_table = toml[toml.index("[joints.knee]"):]
+        toml = toml + "\n" + knee_table.replace("[joints.knee]", "[joints.ankle]")
+    else:
+        urdf = urdf.replace(FOOT_JOINT, FOOT_JOINT.replace('xyz="0 0 -0.38"', 'xyz="-0.02 0 -0.38"'))
+    (folder / "spatial-leg.urdf").write_text(urdf)
+    (folder / "leg.toml").write_text(toml)
+    robot = load_robot(folder / "leg.toml")
+    return robot, build_leg_model(robot)
+
+
+@pytest.fixture(scope="module")
+def urdf_offset_leg(tmp_path_factory):
+    return write_offset_leg(tmp_path_factory.mktemp("offset-leg"))
+
+
+def seg_pitch(v):
+    """Pitch of an (x, z) vector in the README convention: 0 pointing down, positive swung backward."""
+    v = np.asarray(v, dtype=float)
+    return np.arctan2(-v[..., 0], -v[..., 1])
+
+
+def circle_reference(p, a1, a2):
+    """Reference IK (elementary geometry, common practice): the knee is where the circle of radius
+    |a1| about the hip joint meets the circle of radius |a2| about the foot, taking the intersection
+    behind the hip-foot line (the 'backward' knee: 2-D cross product foot x knee < 0). Then
+    q1 turns a1 onto hip->knee and q1 + q2 turns a2 onto knee->foot."""
+    r1, r2 = np.hypot(*a1), np.hypot(*a2)
+    d = np.hypot(p[:, 0], p[:, 1])
+    u = p / d[:, None]
+    nrm = np.column_stack([-u[:, 1], u[:, 0]])
+    x = (d**2 + r1**2 - r2**2) / (2 * d)
+    h = np.sqrt(np.maximum(r1**2 - x**2, 0.0))   # 0: tangent circles, the leg straight
+    k = x[:, None] * u - h[:, None] * nrm
+    assert np.all(p[:, 0] * k[:, 1] - p[:, 1] * k[:, 0] <= 1e-12)   # rounding when tangent
+    q1 = seg_pitch(k) - seg_pitch(a1)
+    q2 = seg_pitch(p - k) - seg_pitch(a2) - q1
+    return np.column_stack([np.angle(np.exp(1j * q1)), np.angle(np.exp(1j * q2))])
+
+
+def pinocchio_points(leg, q):
+    """Pinocchio forward kinematics: hip joint, knee joint, last joint and foot relative to the hip frame (x, z)."""
+    data = leg.model.createData()
+    ids = [leg.model.getJointId(n) for n in leg.joint_names]
+    out = []
+    for qi in q:
+        pin.framesForwardKinematics(leg.model, data, leg.full_q(np.zeros(3), qi))
+        hip = data.oMf[leg.hip_frame_id].translation
+        pts = [data.oMi[j].translation - hip for j in ids] + [data.oMf[leg.foot_frame_id].translation - hip]
+        out.append(np.array(pts)[:, [0, 2]])
+    return np.array(out)
+
+
+def excursion(n=401):
+    """Invented foot path: from 0.70 m out to 1 cm beyond full reach and back while the leg sweeps
+    from +0.3 to -0.3 rad (the hip joint is the hip frame's origin on URDF legs)."""
+    s = (np.arange(n) + 0.5) / n
+    return leg_vector(0.70 + (R_MAX + 0.01 - 0.70) * np.sin(np.pi * s), 0.3 - 0.6 * s)
+
+
+@pytest.mark.parametrize("closed_form", [None, False], ids=["closed-form", "iterative"])
+def test_excursion_beyond_reach_on_a_urdf_leg_with_offsets(urdf_offset_leg, closed_form):
+    robot, leg = urdf_offset_leg
+    p = excursion()
+    beyond = np.hypot(p[:, 0], p[:, 1]) > R_MAX
+    assert 100 < beyond.sum() < 150 and not beyond[0] and not beyond[-1]
+    sol = dls_ik(leg, p, knee=robot.knee, closed_form=closed_form)
+
+    # flags: exactly the samples beyond reach, and only FLAG_UNREACHABLE
+    np.testing.assert_array_equal(sol.flags, np.where(beyond, FLAG_UNREACHABLE, 0))
+    # finite, wrapped, and never outside the joint range without a flag (here: never outside at all
+    # for reachable samples; the 3/2 cm offsets keep the straightest knee at -0.129 rad < -0.1)
+    assert np.all(np.isfinite(sol.q)) and np.all(np.abs(sol.q) <= np.pi)
+    lower = np.array([j.lower_rad for j in robot.joints])
+    upper = np.array([j.upper_rad for j in robot.joints])
+    outside = np.any((sol.q < lower) | (sol.q > upper), axis=1)
+    assert not np.any(outside & (sol.flags == 0))
+
+    # Reference 1: Pinocchio forward kinematics of the returned q lands on each reachable target to
+    # 1e-9 m, with the knee joint behind the hip-foot line (the robot's 'backward' branch)
+    pts = pinocchio_points(leg, sol.q)
+    foot, knee_pt, hip_pt = pts[:, -1], pts[:, 1], pts[:, 0]
+    np.testing.assert_allclose(hip_pt, 0.0, atol=1e-12)
+    np.testing.assert_allclose(foot[~beyond], p[~beyond], atol=1e-9)
+    cross = foot[:, 0] * knee_pt[:, 1] - foot[:, 1] * knee_pt[:, 0]
+    assert np.all(cross[~beyond] < 0)
+    # Beyond reach: the closest reachable pose along the target direction (leg straight at R_MAX)
+    np.testing.assert_allclose(foot[beyond], R_MAX * p[beyond] / np.hypot(*p[beyond].T)[:, None], atol=1e-9)
+    # Reference 2: the circle-intersection closed form from the URDF's link vectors, every reachable
+    # sample (before and after the excursion); beyond reach, the same construction on the target
+    # pulled back to R_MAX (tangent circles). There the leg is straight, the Jacobian singular, and
+    # a residual of 1e-10 m fixes the angles only to about sqrt(1e-10 m / 0.4 m) ~ 2e-5 rad.
+    reach = np.where(beyond, R_MAX / np.hypot(*p.T), 1.0)[:, None] * p
+    ref = circle_reference(reach, A1, A2)
+    np.testing.assert_allclose(sol.q[~beyond], ref[~beyond], atol=1e-9)
+    np.testing.assert_allclose(sol.q[beyond], ref[beyond], atol=2e-5)
+    # no branch jumps anywhere: the largest step between samples is the reference's (no 677 rad/s)
+    assert np.max(np.abs(np.diff(sol.q, axis=0))) <= np.max(np.abs(np.diff(ref, axis=0))) + 4e-5
+
+
+def test_flagged_samples_never_seed_the_next_one(urdf_offset_leg):
+    # The iterative path warm-starts from the previous sample; a NaN target, a target 2 m away, one at
+    # the hip joint (closer than the minimum reach) and a wild q_seed must not spoil what follows.
+    robot, leg = urdf_offset_leg
+    p = leg_vector(np.linspace(0.62, 0.74, 40), np.linspace(0.25, -0.25, 40))
+    bad = {5: [np.nan, -0.6], 12: [2.0, -0.5], 13: [-1.5, 1.0], 25: [0.0, 0.0]}
+    for i, v in bad.items():
+        p[i] = v
+    sol = dls_ik(leg, p, knee=robot.knee, closed_form=False, q_seed=[40.0, 40.0])
+    good = np.ones(len(p), dtype=bool)
+    good[list(bad)] = False
+    assert np.all(sol.flags[good] == 0)
+    assert sol.flags[5] == FLAG_NONFINITE | FLAG_IK_NOT_CONVERGED and np.all(np.isnan(sol.q[5]))
+    assert all(sol.flags[i] == FLAG_UNREACHABLE for i in (12, 13, 25))
+    np.testing.assert_allclose(sol.q[good], circle_reference(p[good], A1, A2), atol=1e-9)
+    foot = pinocchio_points(leg, sol.q[[12, 13, 25]])[:, -1]
+    np.testing.assert_allclose(foot[:2], R_MAX * p[[12, 13]] / np.hypot(*p[[12, 13]].T)[:, None], atol=1e-9)
+    # |a1| and |a2| differ by 1.93 cm: at the hip joint the leg folds, the foot straight below it
+    r_min = abs(np.hypot(*A1) - np.hypot(*A2))
+    np.testing.assert_allclose(foot[2], [0.0, -r_min], atol=1e-9)
+
+
+def test_three_joint_urdf_leg_with_offsets_holds_pitch(tmp_path):
+    # Reference: Pinocchio forward kinematics (foot on target to 1e-9 m, foot frame pitch = zero-pose
+    # pitch + foot_pitch_rad, knee joint behind the hip-ankle line).
+    _, leg = write_offset_leg(tmp_path, ankle=True)
+    assert leg.n_joints == 3 and planar_chain(leg).exact
+    pitch = 0.15
+    p = leg_vector(np.linspace(0.60, 0.75, 30), np.linspace(-0.35, 0.35, 30))
+    sol = dls_ik(leg, p, knee="backward", foot_pitch_rad=pitch)
+    assert np.all(sol.flags == 0)
+    pts = pinocchio_points(leg, sol.q)
+    np.testing.assert_allclose(pts[:, -1], p, atol=1e-9)
+    np.testing.assert_allclose(sol.q.sum(axis=1), pitch, atol=1e-12)   # Ry(q1 + q2 + q3), all axes +y
+    data = leg.model.createData()
+    pin.framesForwardKinematics(leg.model, data, leg.full_q(np.zeros(3), sol.q[7]))
+    pitch_q = np.arctan2(data.oMf[leg.foot_frame_id].rotation[0, 2], data.oMf[leg.foot_frame_id].rotation[0, 0])
+    np.testing.assert_allclose(pitch_q, pitch, atol=1e-12)   # the URDF's foot frame has no rotation at q = 0
+    ankle, knee_pt = pts[:, 2], pts[:, 1]
+    assert np.all(ankle[:, 0] * knee_pt[:, 1] - ankle[:, 1] * knee_pt[:, 0] < 0)
+    # the ankle sits at the foot minus the pitched last link (rotation by the foot pitch about +y)
+    c, s = np.cos(pitch), np.sin(pitch)
+    np.testing.assert_allclose(ankle, p - np.array([c * A3[0] + s * A3[1], -s * A3[0] + c * A3[1]]), atol=1e-9)
+    # the same targets from the iterative path agree
+    np.testing.assert_allclose(dls_ik(leg, p, knee="backward", foot_pitch_rad=pitch, closed_form=False).q, sol.q, atol=1e-8)
+
+
+def test_planar_chain_reads_the_urdf_and_matches_pinocchio(urdf_offset_leg):
+    _, leg = urdf_offset_leg
+    chain = planar_chain(leg)
+    assert chain.exact
+    np.testing.assert_allclose(chain.hip_joint_m, 0.0, atol=1e-12)
+    np.testing.assert_allclose(chain.links_m, [A1, A2], atol=1e-12)
+    rng = np.random.default_rng(3)
+    q, qd = rng.uniform(-2.0, 2.0, (6, 2)), rng.uniform(-8.0, 8.0, (6, 2))
+    data = leg.model.createData()
+    jac, jdq = chain.jacobian(q), chain.jdot_qd(q, qd)
+    np.testing.assert_allclose(chain.foot(q), pinocchio_points(leg, q)[:, -1], atol=1e-12)
+    for k in range(len(q)):
+        # Reference: Pinocchio's frame Jacobian (LOCAL_WORLD_ALIGNED) and classical acceleration at qdd = 0
+        qf = leg.full_q(np.zeros(3), q[k])
+        pin.framesForwardKinematics(leg.model, data, qf)
+        ref = pin.computeFrameJacobian(leg.model, data, qf, leg.foot_frame_id, pin.LOCAL_WORLD_ALIGNED)[[0, 2]][:, leg.v_index]
+        np.testing.assert_allclose(jac[k], ref, atol=1e-12)
+        v = np.zeros(leg.model.nv)
+        v[leg.v_index] = qd[k]
+        pin.forwardKinematics(leg.model, data, qf, v, np.zeros(leg.model.nv))
+        acc = pin.getFrameClassicalAcceleration(leg.model, data, leg.foot_frame_id, pin.LOCAL_WORLD_ALIGNED).linear[[0, 2]]
+        np.testing.assert_allclose(jdq[k], acc, atol=1e-10)
+
+
+def test_offset_closed_form_reduces_to_the_textbook_on_a_straight_chain():
+    # A straight chain (c0 = 0, a_k = (0, -L_k)) must give Spong's two-link solution (see above).
+    chain = PlanarChain(np.zeros(2), np.array([[0.0, -L1], [0.0, -L2]]), np.eye(3), True)
+    p = np.array([[0.10, -0.65], [-0.20, -0.55], [0.0, -0.30], [0.35, -0.50]])
+    for knee, sign in (("backward", -1), ("forward", 1)):
+        sol = offset_chain_ik(chain, p, knee)
+        t1, t2 = spong_two_link(-p[:, 1], -p[:, 0], L1, L2, elbow_down=sign > 0)
+        np.testing.assert_allclose(sol.q, np.column_stack([t1, t2]), atol=1e-12)
+        assert np.all(sol.flags == 0)
+
+
+def tilted_knee_leg(tilt):
+    """A leg that is NOT a planar chain: the knee axis leans by ``tilt`` rad towards +x."""
+    model = pin.Model()
+    ident = pin.SE3.Identity()
+    jx = model.addJoint(0, pin.JointModelPX(), ident, BASE_JOINTS[0])
+    jz = model.addJoint(jx, pin.JointModelPZ(), ident, BASE_JOINTS[1])
+    jp = model.addJoint(jz, pin.JointModelRY(), ident, BASE_JOINTS[2])
+    model.appendBodyToJoint(jp, pin.Inertia(10.0, np.zeros(3), np.eye(3) * 0.5), ident)
+    model.addFrame(pin.Frame(HIP_FRAME, jp, ident, pin.FrameType.OP_FRAME))
+    h = model.addJoint(jp, pin.JointModelRY(), ident, "hip")
+    axis = np.array([np.sin(tilt), np.cos(tilt), 0.0])
+    k = model.addJoint(h, pin.JointModelRevoluteUnaligned(axis), pin.SE3(np.eye(3), np.array([*A1[:1], 0, A1[1]])), "knee")
+    model.addFrame(pin.Frame(FOOT_FRAME, k, pin.SE3(np.eye(3), np.array([A2[0], 0, A2[1]])), pin.FrameType.OP_FRAME))
+    return index_model(model, ("hip", "knee"), FOOT_FRAME, HIP_FRAME)
+
+
+def test_iterative_path_on_a_leg_that_is_not_planar():
+    # No closed form is exact here: damped least squares does the work from the planar guess.
+    # Reference: Pinocchio forward kinematics lands on every unflagged target to 1e-9 m, the knee
+    # behind the hip-foot line; unflagged samples are those well inside reach.
+    leg = tilted_knee_leg(0.15)
+    assert not planar_chain(leg).exact
+    p = excursion(201)
+    sol = dls_ik(leg, p, knee="backward")
+    ok = sol.flags == 0
+    dist = np.hypot(p[:, 0], p[:, 1])
+    assert np.all(ok[dist < R_MAX - 2e-3]) and not np.any(ok[dist > R_MAX])
+    assert np.all(sol.flags[~ok] & FLAG_UNREACHABLE)
+    assert np.all(np.isfinite(sol.q)) and np.all(np.abs(sol.q) <= np.pi)
+    pts = pinocchio_points(leg, sol.q)
+    np.testing.assert_allclose(pts[ok, -1], p[ok], atol=1e-9)
+    assert np.all((pts[:, -1, 0] * pts[:, 1, 1] - pts[:, -1, 1] * pts[:, 1, 0])[ok] < 0)
+
+
+def test_wrap_angle_half_open_interval():
+    # (-pi, pi]: pi stays, -pi and 3 pi map to pi, 2 pi maps to 0 (definition of the interval)
+    np.testing.assert_allclose(wrap_angle([np.pi, -np.pi, 3 * np.pi, 2 * np.pi, -0.5]), [np.pi, np.pi, np.pi, 0.0, -0.5], atol=1e-15)
+    assert math.isclose(float(wrap_angle(7.0)), 7.0 - 2 * np.pi)
+
+
+def test_unknown_knee_branch_is_a_legbridge_error(urdf_offset_leg):
+    with pytest.raises(LegbridgeError, match="knee"):
+        dls_ik(urdf_offset_leg[1], np.array([[0.0, -0.6]]), knee="sideways")

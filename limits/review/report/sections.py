@@ -95,8 +95,8 @@ def caution_identity(review) -> str:
     plan, robot, settings = review.plan, review.robot, review.settings
     version, created = review.provenance.get("legbridge", ""), review.created
     caution = "".join(f"<p><strong>CAUTION.</strong> {escape(p)}</p>" for p in CAUTIONS)
-    duration = (f"{settings.duration_s:g} s (plan repeated)" if settings.duration_s else
-                f"one plan period ({max(c.duration_s for c in plan.cases):.4g} s)" if plan.cases else "one plan period")
+    duration = (review.cases[0].thermal.describe() if review.cases else
+                f"{settings.duration_s:g} s (plan repeated)" if settings.duration_s else "the plan repeated without end")
     mu = settings.friction if settings.friction is not None else robot.ground_friction
     rows = [
         ("Plan file", f"{escape(os.path.basename(plan.path) or plan.path)}<br><span class='small'>{escape(str(plan.path))}</span>"),
@@ -130,6 +130,7 @@ def caution_identity(review) -> str:
             rows.append((f"Plan {key}", escape(plan.metadata[key])))
     table = "".join(f"<tr><th>{k}</th><td>{v}</td></tr>" for k, v in rows)
     warn = "".join(f'<p class="note">Robot file note: {escape(w)}</p>' for w in robot.warnings)
+    warn += "".join(f'<p class="note">Plan and robot: {escape(w)}</p>' for w in review.warnings)
     return (f'<section id="caution-and-identity"><h2>1. Caution and what was reviewed</h2>'
             f'<div class="caution">{caution}</div><table class="identity">{table}</table>{warn}</section>')
 
