@@ -40,6 +40,8 @@ class JointTrajectory:
     current_a, voltage_v (n, j): DC-equivalent drive current [A] and terminal voltage [V]
     electrical_power_w, mechanical_power_w (n, j) [W]
     flags (n,) int: bit flags FLAG_* above (0 = nothing flagged)
+    motor_accel_rad_s2 (n, j): motor shaft acceleration [rad/s^2] (gear ratio applied), or None for
+        rigid joints built by hand (then N qdd)
     """
 
     case: str
@@ -64,6 +66,7 @@ class JointTrajectory:
     electrical_power_w: np.ndarray
     mechanical_power_w: np.ndarray
     flags: np.ndarray
+    motor_accel_rad_s2: np.ndarray | None = None
 
     @property
     def n_samples(self) -> int:
@@ -72,6 +75,14 @@ class JointTrajectory:
     @property
     def n_joints(self) -> int:
         return len(self.joint_names)
+
+    def motor_side_rates(self, i: int, gear_ratio: float) -> tuple[np.ndarray, np.ndarray]:
+        """(speed [rad/s], acceleration [rad/s^2]) of joint i's motor side in joint units (the motor shaft
+        divided by the gear ratio): for a series-elastic joint the gearbox output, not the joint."""
+        speed = np.asarray(self.motor_speed_rad_s[:, i], dtype=float) / gear_ratio
+        if self.motor_accel_rad_s2 is None:
+            return speed, np.asarray(self.qdd[:, i], dtype=float)
+        return speed, np.asarray(self.motor_accel_rad_s2[:, i], dtype=float) / gear_ratio
 
     def base_residual_summary(self) -> dict:
         """Largest base residual over the case: |x force| [N], |z force| [N], |pitch moment| [N m],

@@ -59,6 +59,9 @@ class ResampledCase:
     belongs to; leg_length, leg_angle: Channel [m, m/s, m/s^2] / [rad, rad/s, rad/s^2];
     force_x_n, force_z_n (n,) [N]; body_x, body_z: Channel or None (position from the plan, rate and
     acceleration from the velocity columns when given, otherwise from the position interpolant).
+    in_gap (n,) bool: the sample lies in a gap between two plan phases (the gap rule), where the
+    force is the straight line across the gap; quantities derived from the force change slope at
+    the gap's ends, so their rates are taken per piece (mapping.motor_side)
     """
 
     time_s: np.ndarray
@@ -70,10 +73,18 @@ class ResampledCase:
     force_z_n: np.ndarray
     body_x: Channel | None
     body_z: Channel | None
+    in_gap: np.ndarray | None = None
 
     @property
     def n_samples(self) -> int:
         return int(self.time_s.shape[0])
+
+    @property
+    def pieces(self) -> np.ndarray:
+        """(n,) int label of each sample's interpolation piece: its plan segment, with a gap counted as
+        a piece of its own (rates of force-derived quantities never span a change of label)."""
+        gap = np.zeros(self.n_samples, bool) if self.in_gap is None else np.asarray(self.in_gap, bool)
+        return 2 * np.asarray(self.segment, dtype=int) + gap.astype(int)
 
 
 def time_grid(t0: float, t1: float, rate_hz: float) -> np.ndarray:
@@ -186,6 +197,9 @@ def resample_case(case: ReducedTrajectory, rate_hz: float) -> ResampledCase:
 
     fx, fz = (gap_bridged_force(t, np.asarray(f, dtype=float), case.stance, tq, val[:, col[c]], stance)
               for f, c in ((case.force_x_n, "fx"), (case.force_z_n, "fz")))
+    k = np.clip(np.searchsorted(t, tq, side="right") - 1, 0, t.shape[0] - 2)
+    ps = np.asarray(case.stance, dtype=bool)
+    in_gap = (ps[k] != ps[k + 1]) & (tq > t[k])
     return ResampledCase(
         time_s=frozen_array(tq),
         stance=frozen_array(stance, dtype=bool),
@@ -196,4 +210,5 @@ def resample_case(case: ReducedTrajectory, rate_hz: float) -> ResampledCase:
         force_z_n=frozen_array(fz),
         body_x=body("x"),
         body_z=body("z"),
+        in_gap=frozen_array(in_gap, dtype=bool),
     )

@@ -159,7 +159,7 @@ def translate_resampled(rs: ResampledCase, robot: Robot, leg: LegModel, *, name:
     dyn = inverse_dynamics(leg, qf, vf, af, foot_force_local(leg, rot, force))
     tau = dyn.tau
     tau_free = tau + np.einsum("nij,ni->nj", jac, force)
-    ms = motor_side(robot, rs.time_s, q, qd, qdd, tau)
+    ms = motor_side(robot, rs.time_s, q, qd, qdd, tau, stance, rs.pieces)
 
     finite = np.isfinite(q).all(1) & np.isfinite(qd).all(1) & np.isfinite(qdd).all(1) & np.isfinite(tau).all(1)
     finite &= np.isfinite(ms.current_a).all(1) & np.isfinite(ms.voltage_v).all(1)
@@ -188,6 +188,7 @@ def translate_resampled(rs: ResampledCase, robot: Robot, leg: LegModel, *, name:
         electrical_power_w=ms.electrical_power_w,
         mechanical_power_w=ms.mechanical_power_w,
         flags=frozen_array(flags, dtype=np.int64),
+        motor_accel_rad_s2=ms.motor_accel_rad_s2,
     )
 
 

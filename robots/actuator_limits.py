@@ -158,6 +158,12 @@ def reflected_inertia_kgm2(act: Actuator) -> float:
     return act.gear_ratio**2 * act.rotor_inertia_kgm2
 
 
+def max_motor_side_speed_rad_s(act: Actuator) -> float:
+    """The fastest the gearbox output may turn [rad/s] (joint units): the tighter of the motor speed
+    limit and the no-load speed, over the gear ratio."""
+    return min(act.max_motor_speed_rad_s, no_load_motor_speed_rad_s(act)) / act.gear_ratio
+
+
 def max_joint_speed(joint: Joint) -> BoundSource:
     """Tightest joint speed bound [rad/s]: motor speed limit, no-load speed, or a joint-side value."""
     act = joint.actuator

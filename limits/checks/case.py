@@ -14,6 +14,7 @@ import numpy as np
 
 from legbridge.limits.verdict import summarise
 from legbridge.mapping.joint_trajectory import FLAG_NAMES
+from legbridge.mapping.motor_side import spring_torque_steps
 
 from legbridge.limits import checks as registry
 from . import thermal as thermal_model
@@ -83,9 +84,11 @@ def check_case(traj, robot, settings: CheckSettings | None = None) -> CaseReview
     p_tot = total_power_w(traj)
     power = {"peak_motor_w": {n: float(np.max(traj.electrical_power_w[:, i], initial=-np.inf)) for i, n in enumerate(traj.joint_names)},
              "peak_total_w": float(np.max(p_tot, initial=-np.inf)), "min_total_w": float(np.min(p_tot, initial=np.inf))}
+    steps = spring_torque_steps(robot, traj.joint_names, traj.time_s, traj.tau, traj.stance)
     return CaseReview(case=traj.case, ground_height_m=float(traj.ground_height_m), summary=summary,
                       segments=tuple(segments), traces=traces, findings=tuple(findings), trajectory=traj,
-                      thermal=th, force_qp=force_sol, motion_qp=motion_sol, regen_energy_j=regen, power_w=power)
+                      thermal=th, force_qp=force_sol, motion_qp=motion_sol, regen_energy_j=regen, power_w=power,
+                      spring_steps=steps)
 
 
 def check_plan(trajs, robot, settings: CheckSettings | None = None) -> tuple[CaseReview, ...]:

@@ -185,6 +185,8 @@ class CaseReview:
     findings: things that could not be evaluated (fail closed), in words
     thermal: the winding thermal simulation; force_qp, motion_qp: QP results or None (not run)
     regen_energy_j: energy regenerated per step [J] (always computed); power_w: summary figures
+    spring_steps: torque steps the plan asks through series springs at touchdown and liftoff
+        (mapping.motor_side.SpringStep): reported as what they are, never differenced into currents
     """
 
     case: str
@@ -199,6 +201,7 @@ class CaseReview:
     motion_qp: QPSolution | None = None
     regen_energy_j: np.ndarray | None = None
     power_w: dict = field(default_factory=dict)
+    spring_steps: tuple = ()
 
     @property
     def verdict(self) -> Verdict:

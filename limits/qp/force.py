@@ -40,7 +40,8 @@ def torque_bounds(traj, robot) -> tuple[np.ndarray, np.ndarray]:
     hi = np.empty(traj.q.shape)
     for i, name in enumerate(traj.joint_names):
         joint = robot.joint(name)
-        lo[:, i], hi[:, i], _ = joint_torque_limits_nm(joint, traj.qd[:, i], traj.qdd[:, i], voltage=True)
+        speed, accel = traj.motor_side_rates(i, joint.actuator.gear_ratio)  # series springs: the motor side
+        lo[:, i], hi[:, i], _ = joint_torque_limits_nm(joint, speed, accel, voltage=True)
     return lo, hi
 
 

@@ -35,6 +35,9 @@ Schema (every number SI; a number that is not finite is written as null; times i
                     limit_temp_c: joint -> limit, time_to_limit_s: joint -> time or null}
       regen_energy_j_per_step   list of energies regenerated per step [J]
       power_w       {peak_motor_w: joint -> W, peak_total_w, min_total_w}
+      spring_steps  list of {joint, time_s, kind ("touchdown" | "liftoff"), step_nm, windup_rad,
+                    min_time_s}: torque steps the plan asks through series springs (never turned
+                    into currents); windup_rad = step / k, min_time_s = |windup| / motor-side speed limit
       base_residual {max_force_x_n, max_force_z_n, max_moment_nm, t_max_force_s}: the largest wrench the
                     body would need beyond what the leg gives (plan's body motion vs the leg's masses)
       qp            {force_feasibility, nearest_motion}: each null (not run) or {status, ok, solver,
@@ -102,6 +105,8 @@ def case_to_json(case) -> dict:
                     "time_to_limit_s": dict(th.time_to_limit_s)},
         "regen_energy_j_per_step": [] if case.regen_energy_j is None else case.regen_energy_j,
         "power_w": dict(case.power_w),
+        "spring_steps": [{"joint": x.joint, "time_s": x.time_s, "kind": x.kind, "step_nm": x.step_nm,
+                          "windup_rad": x.windup_rad, "min_time_s": x.min_time_s} for x in case.spring_steps],
         "base_residual": traj.base_residual_summary(),
         "qp": {"force_feasibility": _qp(case.force_qp, "force", traj.joint_names),
                "nearest_motion": _qp(case.motion_qp, "motion", traj.joint_names)},

@@ -51,6 +51,11 @@ def case_lines(review: Review) -> list[str]:
                    f"{s.n_near} near")
         for f in c.findings:
             out.append(f"  {'':<{width}}  could not be evaluated: {f}")
+        if c.spring_steps:
+            big = max(c.spring_steps, key=lambda x: abs(x.step_nm))
+            out.append(f"  {'':<{width}}  {len(c.spring_steps)} torque step(s) through series springs at touchdown/liftoff; "
+                       f"largest {big.step_nm:+.4g} N m ({big.joint}, {big.kind} at {big.time_s:.3f} s): the motor side "
+                       f"must wind up {big.windup_rad:+.4g} rad, at least {1e3 * big.min_time_s:.3g} ms at its speed limit")
         for j, t in c.thermal.time_to_limit_s.items():
             if c.thermal.runaway.get(j):
                 when = "repeated" if c.thermal.periodic else "if the plan were repeated without end"

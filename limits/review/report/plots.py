@@ -198,7 +198,8 @@ def case_joints_figure(review, robot) -> Figure:
         series = {"angle": traj.q[:, j], "speed": traj.qd[:, j], "torque": traj.tau[:, j]}
         vmax = max_joint_speed(joint).value
         tmax = max_joint_torque(joint).value
-        lo_v, hi_v, _ = joint_torque_limits_nm(joint, traj.qd[:, j], traj.qdd[:, j], voltage=True)
+        m_speed, m_accel = traj.motor_side_rates(j, joint.actuator.gear_ratio)
+        lo_v, hi_v, _ = joint_torque_limits_nm(joint, m_speed, m_accel, voltage=True)
         bands = {"angle": (joint.lower_rad, joint.upper_rad), "speed": (-vmax, vmax), "torque": (-tmax, tmax)}
         for r, (key, label) in enumerate(ROWS):
             ax = axes[r, j]

@@ -174,6 +174,15 @@ def cases(review) -> str:
         res = r.trajectory.base_residual_summary()
         weight = robot.total_mass_kg * STANDARD_GRAVITY_M_S2
         share = f" ({100.0 * max(res['max_force_x_n'], res['max_force_z_n']) / weight:.1f}&nbsp;% of the body weight)" if weight > 0 else ""
+        if r.spring_steps:
+            rows_ = "".join(_row([escape(x.joint), escape(x.kind), (num(x.time_s, ".4f"), "num"), (num(x.step_nm), "num"),
+                                  (num(x.windup_rad), "num"), (num(1e3 * x.min_time_s, ".3g"), "num")]) for x in r.spring_steps)
+            head_ = _row(["Joint", "Edge", ("Time [s]", "num"), ("Torque step [N m]", "num"), ("Wind-up [rad]", "num"),
+                          ("Least time at speed limit [ms]", "num")], header=True)
+            findings += ('<p class="note">Torque steps the plan asks through series springs. The torque through a spring '
+                         'cannot step: the motor side must wind the spring up first, which takes at least the time shown; '
+                         'these steps are not turned into currents.</p>'
+                         f'<table class="spring-steps">{head_}{rows_}</table>')
         findings += (f'<p class="note">Base residual, the wrench the body would need beyond what the leg gives (the plan\'s '
                      f"body motion against this leg's masses): up to {num(res['max_force_x_n'], '.3g')} N along x, "
                      f"{num(res['max_force_z_n'], '.3g')} N along z{share} and {num(res['max_moment_nm'], '.3g')} N m in pitch. "

@@ -1,0 +1,72 @@
+"""Series-elastic joints: the spring torque is a state (no differencing across touchdown or liftoff),
+torque steps are reported as such, and the motor side does not depend on the export rate.
+
+References: the spring law tau = k (theta_m - q) (Hooke's law for a torsion spring), so a torque step
+dtau needs a motor-side wind-up dtau / k, which the motor covers at best at its speed limit in
+|dtau / k| / w_max (kinematics of a speed-limited drive; hand arithmetic below); a cubic spline
+reproduces a cubic exactly (de Boor, A Practical Guide to Splines, ch. IV).
+"""
+
+import dataclasses
+
+import numpy as np
+import pytest
+
+from legbridge.mapping.motor_side import phase_rates, phase_runs, spring_torque_steps
+from legbridge.mapping.pipeline import prepare
+from legbridge.mapping.slip.demo import demo_plan
+from legbridge.robots import actuator_limits as al
+from legbridge.robots.robot import Spring
+
+
+def _sea_robot(example_robot, k=800.0):
+    knee = dataclasses.replace(example_robot.joints[1], spring=Spring(k))
+    return dataclasses.replace(example_robot, joints=(example_robot.joints[0], knee)), knee
+
+
+@pytest.mark.parametrize("rate", [500.0, 2000.0])
+def test_torque_step_wind_up_and_least_time_by_hand(example_robot, rate):
+    # flight 0..0.1 s with tau = 2 N m, stance from 0.1 s with tau = 30 + 100 (t - 0.1) N m: the step
+    # at touchdown is 28 N m (each side's line taken to the edge, midway between the samples around it)
+    robot, knee = _sea_robot(example_robot)
+    t = np.arange(int(0.2 * rate) + 1) / rate
+    stance = t >= 0.1 - 1e-12
+    tau = np.column_stack([np.zeros_like(t), np.where(stance, 30.0 + 100.0 * (t - 0.1), 2.0)])
+    (s,) = spring_torque_steps(robot, ("hip", "knee"), t, tau, stance)
+    edge = 0.1 - 0.5 / rate
+    assert s.joint == "knee" and s.kind == "touchdown" and s.time_s == pytest.approx(edge, abs=1e-12)
+    assert s.step_nm == pytest.approx(30.0 + 100.0 * (edge - 0.1) - 2.0, rel=1e-9)  # 27.95 at 500 Hz
+    assert s.windup_rad == pytest.approx(s.step_nm / 800.0, rel=1e-12)
+    v_max = min(knee.actuator.max_motor_speed_rad_s, al.no_load_motor_speed_rad_s(knee.actuator)) / knee.actuator.gear_ratio
+    assert s.min_time_s == pytest.approx(abs(s.step_nm) / 800.0 / v_max, rel=1e-12)
+
+
+def test_rates_never_span_a_phase_edge():
+    # a cubic in each phase, with a step between: the per-phase spline gives the exact derivatives
+    # of each cubic up to the last sample before the edge (no spike from differencing the step)
+    t = np.arange(0, 0.2001, 0.001)
+    stance = t >= 0.1
+    y = np.where(stance, 5.0 + 2.0 * t**3, -3.0 * t**2)
+    d1, d2 = phase_rates(t, y, stance)
+    np.testing.assert_allclose(d1, np.where(stance, 6.0 * t**2, -6.0 * t), atol=1e-9)
+    np.testing.assert_allclose(d2, np.where(stance, 12.0 * t, -6.0), atol=1e-6)
+    assert phase_runs(stance) == [(0, 100), (100, 201)]
+
+
+def test_motor_side_does_not_depend_on_the_export_rate():
+    # The invented series-elastic leg on the demo's nominal case: before, the knee's "peak current"
+    # grew with the square of the rate (166 A at 500 Hz, 10129 A at 4 kHz: a difference across
+    # touchdown). Now peak current, voltage and motor speed agree between 2 and 4 kHz within 2 %, at
+    # 1 kHz within 3 % and at 500 Hz (the plan's own rate) within 5 %: what remains is the sampling of
+    # narrow peaks and the plan's force interpolant (C1 between plan samples), which bends the spring
+    # torque's second rate at every plan sample.
+    plan = demo_plan((0.0,))
+    peaks = {}
+    for rate in (500.0, 1000.0, 2000.0, 4000.0):
+        tr = prepare(plan, "sea-three-joint-leg", rate_hz=rate).trajectories[0]
+        peaks[rate] = np.array([np.max(np.abs(a), axis=0) for a in (tr.current_a, tr.voltage_v, tr.motor_speed_rad_s)])
+    ref = peaks[4000.0]
+    np.testing.assert_allclose(peaks[2000.0], ref, rtol=0.02)
+    np.testing.assert_allclose(peaks[1000.0], ref, rtol=0.03)
+    np.testing.assert_allclose(peaks[500.0], ref, rtol=0.05)
+    assert ref[0, 1] < 2 * 56.6 * 1.5  # the knee current stays in the range of its drive (no 10 kA artefact)
