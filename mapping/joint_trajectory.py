@@ -42,6 +42,9 @@ class JointTrajectory:
     flags (n,) int: bit flags FLAG_* above (0 = nothing flagged)
     motor_accel_rad_s2 (n, j): motor shaft acceleration [rad/s^2] (gear ratio applied), or None for
         rigid joints built by hand (then N qdd)
+    base_pitch_rad (n,), base_velocity, base_accel (n, 3): the base (body) pitch [rad] and its (x, z,
+        pitch) velocity [m/s, m/s, rad/s] and acceleration; in flight from the free-floating equations
+        (mapping.free_flight). None when built by hand.
     """
 
     case: str
@@ -67,6 +70,9 @@ class JointTrajectory:
     mechanical_power_w: np.ndarray
     flags: np.ndarray
     motor_accel_rad_s2: np.ndarray | None = None
+    base_pitch_rad: np.ndarray | None = None
+    base_velocity: np.ndarray | None = None
+    base_accel: np.ndarray | None = None
 
     @property
     def n_samples(self) -> int:

@@ -6,11 +6,13 @@ analytic rates (mapping.kinematics), inverse kinematics (mapping.ik), joint rate
 pitch row (1, 1, 1) for three), inverse dynamics on the planar floating base (mapping.dynamics) and
 the motor side (mapping.motor_side).
 
-Base motion. The base pitch is 0 (point-mass plan); the hip is at the base (body centre of mass)
-plus robot.hip_offset_m. Along each axis where the plan gives the body motion (body_x_m / body_vx_m_s,
-body_z_m / body_vz_m_s) it is used, its acceleration from the interpolant's derivative; otherwise the
-point-mass law gives the acceleration: a_body = F / m_total + g in stance (m_total =
-robot.total_mass_kg), a_body = g in flight (ballistic).
+Base motion. In stance the base pitch is 0 (point-mass plan); the hip is at the base (body centre of
+mass) plus robot.hip_offset_m. Along each axis where the plan gives the body motion (body_x_m /
+body_vx_m_s, body_z_m / body_vz_m_s) it is used, its acceleration from the interpolant's derivative;
+otherwise the point-mass law gives the acceleration: a_body = F / m_total + g (m_total =
+robot.total_mass_kg). In flight no external wrench acts: the base (x, z and pitch) moves as the
+free-floating equations say given the joints' motion (mapping.free_flight), starting from the state
+the flight begins in, and the body pitch that results is part of the trajectory.
 
 Ground force. The plan's force is applied in stance samples only; flight samples get F = 0 (the foot
 is off the ground), and foot_force_n holds the force actually applied.
@@ -29,6 +31,7 @@ from legbridge.robots.leg_model import LegModel, build_leg_model
 from legbridge.robots.robot import Robot
 
 from .dynamics import foot_force_local, inverse_dynamics, rotation_y
+from .free_flight import free_flight_base
 from .ik import SINGULAR_TOL, chain_ik, dls_ik, solve_rates
 from .joint_trajectory import FLAG_NONFINITE, FLAG_SINGULAR, JointTrajectory
 from .kinematics import chain_foot, chain_jacobian, chain_jdot_qd, leg_vector, leg_vector_rates, segment_pitch
@@ -144,14 +147,16 @@ def translate_resampled(rs: ResampledCase, robot: Robot, leg: LegModel, *, name:
     m_total = robot.total_mass_kg
     bx = _base_axis(rs.body_x, force[:, 0], stance, g[0], m_total)
     bz = _base_axis(rs.body_z, force[:, 1], stance, g[2], m_total)
+    zero = np.zeros(n)
+    base_q, base_v, base_a = (np.column_stack([bx[k], bz[k], zero]) for k in range(3))
+    base_q, base_v, base_a = free_flight_base(leg, rs.time_s, q, qd, qdd, base_q, base_v, base_a, stance)
     model = leg.model
     qf = np.tile(pin.neutral(model), (n, 1))
     vf = np.zeros((n, model.nv))
     af = np.zeros((n, model.nv))
-    for arr, k in ((qf, 0), (vf, 1), (af, 2)):
-        idx = leg.base_q_index if arr is qf else leg.base_v_index
-        arr[:, idx[0]] = bx[k]
-        arr[:, idx[1]] = bz[k]
+    qf[:, leg.base_q_index] = base_q
+    vf[:, leg.base_v_index] = base_v
+    af[:, leg.base_v_index] = base_a
     qf[:, leg.q_index] = q
     vf[:, leg.v_index] = qd
     af[:, leg.v_index] = qdd
@@ -189,6 +194,9 @@ def translate_resampled(rs: ResampledCase, robot: Robot, leg: LegModel, *, name:
         mechanical_power_w=ms.mechanical_power_w,
         flags=frozen_array(flags, dtype=np.int64),
         motor_accel_rad_s2=ms.motor_accel_rad_s2,
+        base_pitch_rad=frozen_array(base_q[:, 2]),
+        base_velocity=frozen_array(base_v),
+        base_accel=frozen_array(base_a),
     )
 
 

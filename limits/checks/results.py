@@ -32,6 +32,8 @@ class CheckSettings:
         half the joint's range
     max_joint_accel_rad_s2: acceleration bound for the nearest-motion QP [rad/s^2]; None = derived
         per joint and sample as peak joint torque / joint-space inertia of the unloaded leg
+    max_flight_pitch_rad: how far the body may pitch in flight before the landing is flagged [rad];
+        the default 0.15 rad (8.6 deg) is a stated choice, not a property of any robot: set your lab's
     run_qps: solve the force-feasibility and nearest-motion QPs (True) or skip them (False)
     solver: cvxpy solver name for the QPs ('CLARABEL' or 'OSQP')
     """
@@ -44,6 +46,7 @@ class CheckSettings:
     regen_energy_j: float | None = None
     range_margin_rad: float | None = None
     max_joint_accel_rad_s2: float | None = None
+    max_flight_pitch_rad: float = 0.15
     run_qps: bool = True
     solver: str = "CLARABEL"
 
@@ -55,7 +58,7 @@ class CheckSettings:
             bad("rate_hz", "a positive rate in Hz", self.rate_hz)
         if not (0.0 <= self.margin < 1.0):
             bad("margin", "a fraction in [0, 1)", self.margin)
-        for key in ("duration_s", "supply_power_w", "regen_energy_j", "max_joint_accel_rad_s2"):
+        for key in ("duration_s", "supply_power_w", "regen_energy_j", "max_joint_accel_rad_s2", "max_flight_pitch_rad"):
             v = getattr(self, key)
             if v is not None and not (math.isfinite(v) and v > 0):
                 bad(key, "a positive number or None", v)

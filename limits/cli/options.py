@@ -28,6 +28,8 @@ def add_check_options(p) -> None:
                    help="total electrical power the supply can deliver [W] (default: not checked)")
     p.add_argument("--regen-energy", type=float, default=None, metavar="J",
                    help="energy the supply can absorb per step when the motors regenerate [J] (default: reported only)")
+    p.add_argument("--max-flight-pitch", type=float, default=0.15, metavar="RAD",
+                   help="body pitch in flight beyond which the landing is flagged [rad] (default 0.15, a stated choice)")
 
 
 def add_output(p, help_text: str, *, required: bool = False) -> None:
@@ -53,7 +55,8 @@ def settings_from_args(args):
     from legbridge.limits.checks.results import CheckSettings
 
     return CheckSettings(rate_hz=args.rate, duration_s=args.duration, margin=args.margin, friction=args.friction,
-                         supply_power_w=args.supply_power, regen_energy_j=args.regen_energy)
+                         supply_power_w=args.supply_power, regen_energy_j=args.regen_energy,
+                         max_flight_pitch_rad=args.max_flight_pitch)
 
 
 def offsets_from_args(args):
