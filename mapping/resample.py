@@ -1,16 +1,18 @@
 """Phase-aware resampling of a reduced-order case to the controller rate.
 
 Each contiguous run of plan samples with the same phase (stance or flight) is one *segment*. Every
-segment is interpolated on its own; no interpolant ever spans a touchdown or a liftoff. Values come
-from a shape-preserving piecewise-cubic Hermite interpolant (scipy.interpolate.PchipInterpolator,
-Fritsch-Carlson slopes), which creates no new extrema between plan samples, so no target goes
-beyond what the plan asks. Rates and accelerations are the analytic derivatives of the segment's C2
-cubic spline through the same samples (scipy.interpolate.CubicSpline, not-a-knot ends), not finite
-differences: PCHIP is only C1, its second derivative jumps at every plan sample and its slope
-estimate (a harmonic mean of neighbouring secants) degrades near extrema. On the demo plan at
-500 Hz that made the leg-angle acceleration alternate between about -70 and -150 rad/s^2 from one
-millisecond to the next around a swing reversal; the spline's is smooth. The two interpolants pass
-through the same samples, so values and rates agree to the interpolation error (O(h^3)).
+segment is interpolated on its own; no interpolant ever spans a touchdown or a liftoff. Within a
+segment, values, rates and accelerations come from ONE interpolant, so they agree to the last sample:
+a C2 cubic spline (scipy.interpolate.CubicSpline, not-a-knot ends) per *piece*, the segment cut at
+every kink of the plan (a sample where a column changes slope abruptly, such as an open-loop policy
+restarting at an apex: a spline run through a kink rings on both sides, its acceleration spiking).
+Earlier versions took values from a shape-preserving PCHIP and rates from a separate spline: their
+slopes disagreed by up to a third of the local rate at swing reversals, and PCHIP's second
+derivative, which jumps at every plan sample, bent anything computed from the force (the motor side
+of a series spring) at the plan's rate. A spline may overshoot a plan sample's range slightly between
+samples in a smooth piece (by the order of h^4 times the fourth derivative); the vertical ground
+force is kept >= 0 (the reader refuses a plan whose ground pulls, so a negative value between
+samples is the interpolant's).
 
 Gap rule (samples between two segments). The new time grid is t0 + k / rate. A grid sample that
 falls strictly between the last plan sample of one phase (t_i) and the first plan sample of the next
@@ -34,7 +36,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.interpolate import CubicSpline, PchipInterpolator
+from scipy.interpolate import CubicSpline
 
 from legbridge.robots.errors import ResampleError
 
@@ -62,6 +64,7 @@ class ResampledCase:
     in_gap (n,) bool: the sample lies in a gap between two plan phases (the gap rule), where the
     force is the straight line across the gap; quantities derived from the force change slope at
     the gap's ends, so their rates are taken per piece (mapping.motor_side)
+    piece (n,) int: the running number of the interpolation piece (segments cut at kinks)
     """
 
     time_s: np.ndarray
@@ -74,6 +77,7 @@ class ResampledCase:
     body_x: Channel | None
     body_z: Channel | None
     in_gap: np.ndarray | None = None
+    piece: np.ndarray | None = None
 
     @property
     def n_samples(self) -> int:
@@ -81,10 +85,12 @@ class ResampledCase:
 
     @property
     def pieces(self) -> np.ndarray:
-        """(n,) int label of each sample's interpolation piece: its plan segment, with a gap counted as
-        a piece of its own (rates of force-derived quantities never span a change of label)."""
+        """(n,) int label of each sample's interpolation piece: its piece of a plan segment (segments are
+        cut at kinks), with a gap counted as a piece of its own (rates of force-derived quantities
+        never span a change of label)."""
         gap = np.zeros(self.n_samples, bool) if self.in_gap is None else np.asarray(self.in_gap, bool)
-        return 2 * np.asarray(self.segment, dtype=int) + gap.astype(int)
+        base = np.asarray(self.segment if self.piece is None else self.piece, dtype=int)
+        return 2 * base + gap.astype(int)
 
 
 def time_grid(t0: float, t1: float, rate_hz: float) -> np.ndarray:
@@ -112,27 +118,88 @@ def assign_segments(t_plan: np.ndarray, bounds: list[tuple[int, int]], t_new: np
     return np.searchsorted(starts - 1e-6 * spacing, t_new, side="right") - 1
 
 
-def pchip_segments(t: np.ndarray, y: np.ndarray, tq: np.ndarray, seg_new: np.ndarray,
-                   bounds: list[tuple[int, int]]) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Per-segment interpolation of the columns of y (n_plan, k) at tq, each of shape (m, k):
-    values (PCHIP), first and second derivatives (C2 cubic spline), see the module docstring.
+KINK_RATIO = 8.0
+"""A plan sample is a kink when its change of slope exceeds this many times the change of slope two
+samples to either side (a smooth curve changes slope by about y'' h at every sample)."""
+KINK_TOL = 1e-6
+"""Changes of slope below this fraction of the column's largest slope are never kinks (the plan's
+own numerical noise)."""
 
-    One interpolant pair per segment for all columns (each column is interpolated independently).
+
+def kink_samples(t: np.ndarray, y: np.ndarray) -> np.ndarray:
+    """Indices (into t) of interior samples where a column of y (m, k) changes slope abruptly.
+
+    With s_i the slope of interval i, the change of slope at sample i is ds_i = s_i - s_{i-1}; the
+    sample is a kink when |ds_i| > KINK_RATIO max(|ds_{i-2}|, |ds_{i+2}|) + KINK_TOL max|s| for some
+    column. A kink between two samples shows at both and splits there twice (a straight piece between).
+    """
+    m = t.shape[0]
+    if m < 3:
+        return np.zeros(0, dtype=int)
+    y2 = y.reshape(m, -1)
+    slope = np.diff(y2, axis=0) / np.diff(t)[:, None]            # (m - 1, k)
+    ds = np.abs(np.diff(slope, axis=0))                           # (m - 2, k): at samples 1 .. m - 2
+    pad = np.pad(ds, ((2, 2), (0, 0)), constant_values=np.nan)
+    with np.errstate(invalid="ignore"):                           # the change two samples away on each side;
+        ref = np.fmax(pad[:-4], pad[4:])                          # none there (a short segment): never a kink
+    ref = np.where(np.isnan(ref), np.inf, ref)
+    tol = KINK_TOL * np.max(np.abs(slope), axis=0, initial=0.0)
+    kink = np.any(ds > KINK_RATIO * ref + tol, axis=1)
+    return np.flatnonzero(kink) + 1
+
+
+def _piece_fit(t: np.ndarray, y: np.ndarray):
+    """The one interpolant of a piece: a C2 cubic spline (not-a-knot) through 3+ samples, the line
+    through 2, the constant through 1; returns f(tq, nu) for nu = 0, 1, 2."""
+    if t.shape[0] >= 3:
+        return CubicSpline(t, y, axis=0, bc_type="not-a-knot", extrapolate=True)
+    if t.shape[0] == 2:
+        slope = (y[1] - y[0]) / (t[1] - t[0])
+        return lambda x, nu=0: (y[0] + np.outer(np.asarray(x) - t[0], slope) if nu == 0 else
+                                np.tile(slope if nu == 1 else 0.0 * slope, (np.shape(x)[0], 1)))
+    return lambda x, nu=0: np.tile(y[0] if nu == 0 else 0.0 * y[0], (np.shape(x)[0], 1))
+
+
+def segment_interpolants(t: np.ndarray, y: np.ndarray, tq: np.ndarray, seg_new: np.ndarray,
+                         bounds: list[tuple[int, int]]):
+    """Per-segment interpolation of the columns of y (n_plan, k) at tq, each result (m, k): values, first
+    and second derivatives of ONE interpolant, so they agree to the last sample; and (m,) the running
+    number of the piece each grid sample belongs to.
+
+    Each phase segment is cut at its kinks (kink_samples: a policy restarting at an apex, a ramp that
+    starts) into pieces sharing the kink sample, and each piece gets a C2 cubic spline (not-a-knot;
+    de Boor, A Practical Guide to Splines, ch. IV): a spline run through a kink rings on both sides of
+    it, a piece ending there does not. A grid sample belongs to the piece whose interval holds it.
     """
     m, k = tq.shape[0], y.shape[1]
     val, d1, d2 = np.empty((m, k)), np.empty((m, k)), np.empty((m, k))
+    label = np.zeros(m, dtype=int)
+    next_label = 0
     for i, (a, b) in enumerate(bounds):
-        sel = seg_new == i
-        if not sel.any():
+        sel = np.flatnonzero(seg_new == i)
+        if sel.size == 0:
             continue
+        ts, ys = t[a:b], y[a:b]
         if b - a == 1:
-            val[sel], d1[sel], d2[sel] = y[a], 0.0, 0.0
+            val[sel], d1[sel], d2[sel] = ys[0], 0.0, 0.0
+            label[sel] = next_label
+            next_label += 1
             continue
-        p = PchipInterpolator(t[a:b], y[a:b], axis=0, extrapolate=True)
-        spline = CubicSpline(t[a:b], y[a:b], axis=0, extrapolate=True)
-        ts = tq[sel]
-        val[sel], d1[sel], d2[sel] = p(ts), spline(ts, 1), spline(ts, 2)
-    return val, d1, d2
+        cuts = kink_samples(ts, ys)
+        knots = np.unique(np.concatenate([[0], cuts, [b - a - 1]])).astype(int)
+        # the piece whose plan interval holds the grid time (the gap past the last sample: the last piece)
+        piece = np.clip(np.searchsorted(ts[knots], tq[sel], side="right") - 1, 0, len(knots) - 2)
+        label[sel] = next_label + piece
+        next_label += len(knots) - 1
+        for p_i in range(len(knots) - 1):  # one spline per piece (a handful per segment), not per sample
+            rows = sel[piece == p_i]
+            if rows.size == 0:
+                continue
+            lo, hi = knots[p_i], knots[p_i + 1]
+            f = _piece_fit(ts[lo:hi + 1], ys[lo:hi + 1])
+            x = tq[rows]
+            val[rows], d1[rows], d2[rows] = f(x, 0), f(x, 1), f(x, 2)
+    return val, d1, d2, label
 
 
 def gap_bridged_force(t: np.ndarray, f: np.ndarray, plan_stance: np.ndarray, tq: np.ndarray,
@@ -180,7 +247,7 @@ def resample_case(case: ReducedTrajectory, rate_hz: float) -> ResampledCase:
         if vel is not None:
             columns["v" + axis] = vel
     names = list(columns)
-    val, d1, d2 = pchip_segments(t, np.column_stack([np.asarray(columns[c], dtype=float) for c in names]), tq, seg, bounds)
+    val, d1, d2, piece_label = segment_interpolants(t, np.column_stack([np.asarray(columns[c], dtype=float) for c in names]), tq, seg, bounds)
     col = {c: i for i, c in enumerate(names)}
 
     def channel(c: str) -> Channel:
@@ -197,6 +264,7 @@ def resample_case(case: ReducedTrajectory, rate_hz: float) -> ResampledCase:
 
     fx, fz = (gap_bridged_force(t, np.asarray(f, dtype=float), case.stance, tq, val[:, col[c]], stance)
               for f, c in ((case.force_x_n, "fx"), (case.force_z_n, "fz")))
+    fz = np.maximum(fz, 0.0)  # contact cannot pull: a spline dipping below zero near liftoff is the interpolant's
     k = np.clip(np.searchsorted(t, tq, side="right") - 1, 0, t.shape[0] - 2)
     ps = np.asarray(case.stance, dtype=bool)
     in_gap = (ps[k] != ps[k + 1]) & (tq > t[k])
@@ -211,4 +279,5 @@ def resample_case(case: ReducedTrajectory, rate_hz: float) -> ResampledCase:
         body_x=body("x"),
         body_z=body("z"),
         in_gap=frozen_array(in_gap, dtype=bool),
+        piece=frozen_array(piece_label, dtype=int),
     )

@@ -1,10 +1,11 @@
-"""Phase-aware resampling: no new extrema, no interpolation across touchdown/liftoff, gap rule."""
+"""Phase-aware resampling: one interpolant per piece, no interpolation across touchdown/liftoff or
+through a kink, gap rule."""
 
 import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
-from scipy.interpolate import CubicSpline, PchipInterpolator
+from scipy.interpolate import CubicSpline
 
 from legbridge.mapping.plan import ReducedTrajectory
 from legbridge.mapping.resample import ResampleError, resample_case, segment_bounds, time_grid
@@ -18,34 +19,52 @@ def case_from(t, y, stance, **kw):
 
 @settings(max_examples=40, deadline=None)
 @given(st.lists(st.floats(-1.0, 1.0), min_size=4, max_size=12))
-def test_no_new_extrema_within_each_segment(values):
-    # Fritsch-Carlson monotone cubic interpolation property (Fritsch & Carlson, SIAM J. Numer. Anal.
-    # 17 (1980), "Monotone piecewise cubic interpolation"): between two samples the interpolant stays
-    # within their range.
+def test_passes_through_every_plan_sample_and_rates_are_its_derivative(values):
+    # interpolation property (the resampled curve passes through the plan's samples) and one
+    # interpolant: the rate is the derivative of the value (central difference on the 1 kHz grid,
+    # O(h^2) away from the pieces' ends; Burden and Faires, Numerical Analysis, sec. 4.1)
     t = np.arange(len(values)) * 0.01
     rs = resample_case(case_from(t, values, np.ones(len(values))), 1000.0)
-    y = np.asarray(values)
-    k = np.clip(np.searchsorted(t, rs.time_s, side="right") - 1, 0, len(t) - 2)
-    lo = np.minimum(y[k], y[k + 1]) - 1e-12
-    hi = np.maximum(y[k], y[k + 1]) + 1e-12
-    assert np.all((rs.leg_length.value >= lo) & (rs.leg_length.value <= hi))
+    on = np.isin(np.round(rs.time_s, 9), np.round(t, 9))
+    np.testing.assert_allclose(rs.leg_length.value[on], values, atol=1e-12)
+    v, r = rs.leg_length.value, rs.leg_length.rate
+    fd = (v[2:] - v[:-2]) / 0.002
+    inner = np.abs(rs.leg_length.accel[1:-1]) < 1e6  # everywhere finite
+    assert inner.all()
+    # where value is smooth around the sample (no piece end within a sample), the two agree closely
+    smooth = np.abs(r[2:] - r[:-2]) < 0.5 * (np.abs(r[1:-1]) + 1.0)
+    np.testing.assert_allclose(fd[smooth], r[1:-1][smooth], atol=0.05 * (np.abs(r).max() + 1.0))
 
 
-def test_matches_scipy_pchip_per_segment_and_never_crosses_touchdown():
-    # Reference: scipy's PchipInterpolator (values) and CubicSpline (rates) run on each phase
-    # segment by hand.
+def test_matches_scipy_cubic_spline_per_segment_and_never_crosses_touchdown():
+    # Reference: scipy's CubicSpline (values, rates and accelerations of one interpolant) run on each
+    # phase segment by hand; the samples are smooth within each phase (no kink to cut at).
     t = np.arange(12) * 0.01
-    y = np.array([0.7, 0.7, 0.69, 0.68, 0.62, 0.60, 0.61, 0.64, 0.70, 0.71, 0.72, 0.72])
+    y = np.where(t < 0.04, 0.7 - 0.5 * t**2, np.where(t < 0.08, 0.65 + (t - 0.06) ** 2, 0.72 + 0.1 * t))
     stance = np.array([0, 0, 0, 0, 1, 1, 1, 1, 0, 0, 0, 0], bool)
     assert segment_bounds(stance) == [(0, 4), (4, 8), (8, 12)]
     rs = resample_case(case_from(t, y, stance), 1000.0)
     for k, (a, b) in enumerate([(0, 4), (4, 8), (8, 12)]):
         sel = rs.segment == k
-        ref = PchipInterpolator(t[a:b], y[a:b])
+        ref = CubicSpline(t[a:b], y[a:b])
         np.testing.assert_allclose(rs.leg_length.value[sel], ref(rs.time_s[sel]), atol=1e-14)
-        ref_rate = CubicSpline(t[a:b], y[a:b])
-        np.testing.assert_allclose(rs.leg_length.rate[sel], ref_rate(rs.time_s[sel], 1), atol=1e-10)
+        np.testing.assert_allclose(rs.leg_length.rate[sel], ref(rs.time_s[sel], 1), atol=1e-10)
+        np.testing.assert_allclose(rs.leg_length.accel[sel], ref(rs.time_s[sel], 2), atol=1e-8)
         assert np.all(rs.stance[sel] == stance[a])
+
+
+def test_a_kink_is_cut_not_rung_through():
+    # A leg angle that turns at t = 0.1 s from -3 rad/s to +1 rad/s (an open-loop swing that restarts):
+    # each side is a straight line, so the exact acceleration is 0 and the rate -3 or +1 everywhere;
+    # a single spline through the kink would ring on both sides (de Boor, ch. IV).
+    t = np.arange(0.0, 0.2001, 0.002)
+    a = np.where(t <= 0.1, 0.3 - 3.0 * t, 0.0 + 1.0 * (t - 0.1))
+    n = len(t)
+    rs = resample_case(ReducedTrajectory("c", t, np.full(n, 0.7), a, np.zeros(n), np.zeros(n), np.zeros(n, bool)), 1000.0)
+    np.testing.assert_allclose(rs.leg_angle.accel, 0.0, atol=1e-8)
+    np.testing.assert_allclose(rs.leg_angle.rate, np.where(rs.time_s < 0.1 - 1e-9, -3.0, 1.0), atol=1e-8)
+    np.testing.assert_allclose(rs.leg_angle.value, np.where(rs.time_s <= 0.1, 0.3 - 3.0 * rs.time_s,
+                                                            rs.time_s - 0.1), atol=1e-12)
 
 
 def test_gap_samples_belong_to_the_earlier_segment():
@@ -101,7 +120,7 @@ def test_stance_force_bridges_to_zero_after_liftoff_without_overshoot():
 
 
 def test_derivatives_are_analytic_for_a_line():
-    # A straight line (slope 0.2 m/s) is reproduced exactly by PCHIP, derivatives included.
+    # A straight line (slope 0.2 m/s) is reproduced exactly by a cubic spline, derivatives included.
     t = np.linspace(0, 1, 11)
     rs = resample_case(case_from(t, 0.5 + 0.2 * t, np.ones(11)), 200.0)
     np.testing.assert_allclose(rs.leg_length.rate, 0.2, atol=1e-12)
