@@ -28,6 +28,21 @@ from legbridge.robots.leg_model import LegModel
 _ROWS = [0, 2, 4]  # planar rows of the centroidal quantities: linear x, linear z, angular about y
 
 
+def _solve3(a, b) -> np.ndarray:
+    """x with a x = b for one 3 x 3 system, by Cramer's rule on Python floats (a NumPy solve call costs
+    more than the arithmetic for a system this small); a singular base block gives NaN (fail closed)."""
+    (a00, a01, a02), (a10, a11, a12), (a20, a21, a22) = a.tolist()
+    b0, b1, b2 = b.tolist()
+    c0, c1, c2 = a11 * a22 - a12 * a21, a12 * a20 - a10 * a22, a10 * a21 - a11 * a20
+    det = a00 * c0 + a01 * c1 + a02 * c2
+    if det == 0.0:
+        return np.full(3, np.nan)
+    x0 = (b0 * c0 + a01 * (b2 * a12 - b1 * a22) + a02 * (b1 * a21 - b2 * a11)) / det
+    x1 = (a00 * (b1 * a22 - b2 * a12) + b0 * c1 + a02 * (b2 * a10 - b1 * a20)) / det
+    x2 = (a00 * (b2 * a11 - b1 * a21) + a01 * (b1 * a20 - b2 * a10) + b0 * c2) / det
+    return np.array([x0, x1, x2])
+
+
 def flight_runs(stance) -> list[tuple[int, int]]:
     """(first, last + 1) of every run of flight samples."""
     s = np.asarray(stance, dtype=bool)
@@ -80,11 +95,11 @@ def free_flight_base(leg: LegModel, time_s, q, qd, qdd, base_q, base_v, base_a, 
             qfull[leg.q_index] = q[k]
             ag = pin.computeCentroidalMap(model, data, qfull)[_ROWS]
             h = h0 + (t[k] - t[a]) * dh_target
-            bv[k] = np.linalg.solve(ag[:, bidx], h - ag[:, jidx] @ qd[k])
+            bv[k] = _solve3(ag[:, bidx], h - ag[:, jidx] @ qd[k])
             vfull[bidx], vfull[jidx] = bv[k], qd[k]
             pin.computeCentroidalMapTimeVariation(model, data, qfull, vfull)
             dag_v = (data.dAg @ vfull)[_ROWS]
-            ba[k] = np.linalg.solve(ag[:, bidx], dh_target - ag[:, jidx] @ qdd[k] - dag_v)
+            ba[k] = _solve3(ag[:, bidx], dh_target - ag[:, jidx] @ qdd[k] - dag_v)
     del afull
     return bq, bv, ba
 

@@ -19,7 +19,7 @@ import time
 import numpy as np
 import pinocchio as pin
 
-from legbridge.mapping.dynamics import foot_force_local, rotation_y
+
 from legbridge.mapping.plan import Plan, ReducedTrajectory
 from legbridge.mapping.resample import resample_case
 from legbridge.mapping.translate import translate_plan
@@ -53,14 +53,17 @@ def load_plan() -> Plan:
     return demo_plan()
 
 
-def per_sample_translate(case, robot, leg, rate_hz):
-    """The straightforward path: one numerical IK solve, Jacobians and one rnea per sample."""
+def per_sample_translate(case, robot, leg, rate_hz, base):
+    """The straightforward path: one numerical IK solve, Jacobians and one rnea per sample. ``base``:
+    the fast path's base pitch, velocity and acceleration (in flight the base floats: its state
+    comes from mapping.free_flight, which this loop takes as given)."""
+    pitch, base_v, base_a = base
     rs = resample_case(case, rate_hz)
     model, data = leg.model, leg.model.createData()
     fid, parent = leg.foot_frame_id, leg.model.frames[leg.foot_frame_id].parentJoint
     n, nj = rs.n_samples, leg.n_joints
     q_out, tau_out, cur_out = np.zeros((n, nj)), np.zeros((n, nj)), np.zeros((n, nj))
-    m_total, g = robot.total_mass_kg, model.gravity.linear
+
     qf = pin.neutral(model)
     qf[leg.q_index] = [0.3, -1.0]
     fext = pin.StdVec_Force()
@@ -74,7 +77,7 @@ def per_sample_translate(case, robot, leg, rate_hz):
         rd = np.array([ld * np.sin(a) + l * ad * np.cos(a), -ld * np.cos(a) + l * ad * np.sin(a)])
         rdd = (ldd - l * ad**2) * np.array([np.sin(a), -np.cos(a)]) + (2 * ld * ad + l * add) * np.array([np.cos(a), np.sin(a)])
         qf[leg.base_q_index] = 0.0
-        for _ in range(50):
+        for _ in range(50):  # IK with the base level (the plan's leg angle is in the world)
             pin.framesForwardKinematics(model, data, qf)
             err = target - (data.oMf[fid].translation - data.oMf[leg.hip_frame_id].translation)[[0, 2]]
             if np.max(np.abs(err)) < 1e-10:
@@ -85,23 +88,22 @@ def per_sample_translate(case, robot, leg, rate_hz):
         qd = np.linalg.solve(jl, rd)
         vf = np.zeros(model.nv)
         vf[leg.v_index] = qd
+        qf_dyn = qf.copy()
+        qf_dyn[leg.base_q_index[2]] = pitch[i]
         pin.forwardKinematics(model, data, qf, vf, np.zeros(model.nv))
         jdq = pin.getFrameClassicalAcceleration(model, data, fid, pin.LOCAL_WORLD_ALIGNED).linear[[0, 2]]
         qdd = np.linalg.solve(jl, rdd - jdq)
         stance = bool(rs.stance[i])
         f = np.array([rs.force_x_n[i], rs.force_z_n[i]]) if stance else np.zeros(2)
         af = np.zeros(model.nv)
-        for k, (body, gk) in enumerate(((rs.body_x, g[0]), (rs.body_z, g[2]))):
-            if body is not None:  # the plan's body motion where it is given
-                af[leg.base_v_index[k]] = body.accel[i]
-            else:  # point-mass law: F / m + g in stance, ballistic in flight
-                af[leg.base_v_index[k]] = f[k] / m_total + gk if stance else gk
+        af[leg.base_v_index] = base_a[i]
+        vf[leg.base_v_index] = base_v[i]
         af[leg.v_index] = qdd
         rot = data.oMi[parent].rotation
         fl = rot.T @ np.array([f[0], 0.0, f[1]])
         lever = model.frames[fid].placement.translation
         fext[parent] = pin.Force(fl, np.cross(lever, fl))
-        tau = pin.rnea(model, data, qf, vf, af, fext)[leg.v_index]
+        tau = pin.rnea(model, data, qf_dyn, vf, af, fext)[leg.v_index]
         q_out[i], tau_out[i] = qf[leg.q_index], tau
         for j, joint in enumerate(robot.joints):
             cur_out[i, j] = float(al.current_a(joint.actuator, tau[j], qd[j], qdd[j]))
@@ -124,7 +126,8 @@ def main() -> None:
     n = sum(t.n_samples for t in fast)
     leg = build_leg_model(robot)
     t0 = time.perf_counter()
-    slow = [per_sample_translate(c, robot, leg, rate) for c in plan.cases]
+    slow = [per_sample_translate(c, robot, leg, rate, (f.base_pitch_rad, f.base_velocity, f.base_accel))
+            for c, f in zip(plan.cases, fast)]
     t_slow = time.perf_counter() - t0
     dq = max(np.abs(f.q - s[0]).max() for f, s in zip(fast, slow))
     dtau = max(np.abs(f.tau - s[1]).max() for f, s in zip(fast, slow))
