@@ -77,6 +77,9 @@ def check_case(traj, robot, settings: CheckSettings | None = None) -> CaseReview
                 findings.append(f"QP force_feasibility: no ground force within the torque-speed envelope and "
                                 f"friction cone ({_times(traj, bad)}); torque slack up to "
                                 f"{float(np.max(force_sol.values['torque_slack_nm'])):.3g} N m")
+    corrected = None
+    if motion_sol is not None and motion_sol.ok:
+        corrected = recheck_corrected(traj, robot, settings, motion_sol)
     segments.sort(key=lambda s: (s.t_start_s, s.limit, s.joint))
     summary = summarise(traj.case, traces, segments, findings)
     regen = step_regen_energy_j(traj)
@@ -88,7 +91,19 @@ def check_case(traj, robot, settings: CheckSettings | None = None) -> CaseReview
     return CaseReview(case=traj.case, ground_height_m=float(traj.ground_height_m), summary=summary,
                       segments=tuple(segments), traces=traces, findings=tuple(findings), trajectory=traj,
                       thermal=th, force_qp=force_sol, motion_qp=motion_sol, regen_energy_j=regen, power_w=power,
-                      spring_steps=steps)
+                      spring_steps=steps, corrected=corrected)
+
+
+def recheck_corrected(traj, robot, settings: CheckSettings, motion_sol):
+    """The nearest-motion QP's corrected targets checked again with every check (no QPs): the
+    CaseSummary of what the corrected motion still exceeds (mapping.retarget rebuilds its rates,
+    torques and motor side)."""
+    from dataclasses import replace
+
+    from legbridge.mapping.retarget import with_joint_motion
+
+    moved = with_joint_motion(traj, robot, motion_sol.values["q_corrected_rad"])
+    return check_case(moved, robot, replace(settings, run_qps=False)).summary
 
 
 def check_plan(trajs, robot, settings: CheckSettings | None = None) -> tuple[CaseReview, ...]:

@@ -190,6 +190,8 @@ class CaseReview:
     regen_energy_j: energy regenerated per step [J] (always computed); power_w: summary figures
     spring_steps: torque steps the plan asks through series springs at touchdown and liftoff
         (mapping.motor_side.SpringStep): reported as what they are, never differenced into currents
+    corrected: the summary of the nearest-motion QP's corrected targets checked again (what they
+        still exceed), or None when the QP was not run or did not solve
     """
 
     case: str
@@ -205,6 +207,7 @@ class CaseReview:
     regen_energy_j: np.ndarray | None = None
     power_w: dict = field(default_factory=dict)
     spring_steps: tuple = ()
+    corrected: CaseSummary | None = None
 
     @property
     def verdict(self) -> Verdict:

@@ -48,9 +48,10 @@ def torque_bounds(traj, robot) -> tuple[np.ndarray, np.ndarray]:
 def build(jacobian, tau_free, force_plan, lo, hi, mu: float, slack_weight: float | None = None) -> QPProblem:
     """The stacked QP for m samples: jacobian (m, 2, j), tau_free, lo, hi (m, j), force_plan (m, 2).
 
-    Variables: x = [F_0x, F_0z, F_1x, ..., s_0,0 .. s_0,j-1, s_1,0, ...] (2m forces, then j m slacks).
-    Rows per sample: j upper torque rows, j lower torque rows, 2 cone rows, 1 unilateral row, then j
-    slack rows (s >= 0) at the end.
+    Written around the plan (no large constant in the objective): variables x = [dF_0x, dF_0z, dF_1x,
+    ..., s_0,0 .. s_0,j-1, s_1,0, ...] (2m force changes F - F_plan, then j m slacks), objective
+    ||dF||^2 + w sum s. Rows per sample: j upper torque rows, j lower torque rows, 2 cone rows, 1
+    unilateral row, then j slack rows (s >= 0) at the end.
     """
     J = np.asarray(jacobian, dtype=float)
     m, _, nj = J.shape
@@ -88,14 +89,16 @@ def build(jacobian, tau_free, force_plan, lo, hi, mu: float, slack_weight: float
     upper = np.full(n_rows, np.inf)
     blk_u = np.full((m, rows_per), np.inf)
     blk_l = np.full((m, rows_per), -np.inf)
-    blk_u[:, :nj] = np.asarray(hi, dtype=float).reshape(m, nj) - tf
-    blk_l[:, nj:2 * nj] = np.asarray(lo, dtype=float).reshape(m, nj) - tf
-    blk_u[:, 2 * nj:2 * nj + 2] = 0.0
-    blk_l[:, 2 * nj + 2] = 0.0
+    tau0 = tf - np.einsum("kri,kr->ki", J, f0)  # the plan's torque: the rows hold the change from it
+    blk_u[:, :nj] = np.asarray(hi, dtype=float).reshape(m, nj) - tau0
+    blk_l[:, nj:2 * nj] = np.asarray(lo, dtype=float).reshape(m, nj) - tau0
+    blk_u[:, 2 * nj] = -(f0[:, 0] - mu * f0[:, 1])
+    blk_u[:, 2 * nj + 1] = -(-f0[:, 0] - mu * f0[:, 1])
+    blk_l[:, 2 * nj + 2] = -f0[:, 1]
     upper[:m * rows_per], lower[:m * rows_per] = blk_u.ravel(), blk_l.ravel()
     lower[m * rows_per:] = 0.0
     p_diag = np.concatenate([np.full(nf, 2.0), np.zeros(ns)])
-    c = np.concatenate([-2.0 * f0.ravel(), np.full(ns, slack_weight)])
+    c = np.concatenate([np.zeros(nf), np.full(ns, slack_weight)])
     labels = tuple(f"torque_hi[{i}]" for i in range(nj)) + tuple(f"torque_lo[{i}]" for i in range(nj)) + ("cone+", "cone-", "unilateral")
     return QPProblem("force_feasibility", p_diag, c, A, lower, upper, labels,
                      {"n_samples": m, "n_joints": nj, "slack_weight": slack_weight, "rows_per_sample": rows_per})
@@ -111,7 +114,7 @@ def planned_force_feasible(jacobian, tau_free, force_plan, lo, hi, mu: float) ->
 
 
 def unpack(x, m: int, nj: int) -> tuple[np.ndarray, np.ndarray]:
-    """(force (m, 2) [N], slack (m, j) [N m]) from the solution vector."""
+    """(force change F - F_plan (m, 2) [N], slack (m, j) [N m]) from the solution vector."""
     return x[:2 * m].reshape(m, 2), x[2 * m:].reshape(m, nj)
 
 
@@ -133,7 +136,7 @@ def force_feasibility(traj, robot, mu: float, solver: str = "CLARABEL"):
     f_sub, s_sub = unpack(x, sub.size, nj)
     force = np.full((n, 2), np.nan)
     force[idx] = plan[idx]
-    force[sub] = f_sub
+    force[sub] = plan[sub] + f_sub
     f_opt = force[idx]
     s_all = np.zeros((n, nj))
     s_all[sub] = s_sub

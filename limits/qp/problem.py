@@ -25,6 +25,10 @@ import scipy.sparse as sp
 from legbridge.limits.checks.results import QPSolution
 
 OK_STATUSES = ("optimal",)
+REL_TOL = 1e-5
+"""A solution is accepted only when its status is optimal AND its KKT residuals, relative to the
+problem's own scale, are below this: primal |viol| / (1 + max(|A x|, |bounds|)) and stationarity
+|P x + c + A^T y| / (1 + max(|P x|, |c|, |A^T y|)) (a solver's status alone is not enough)."""
 
 
 @dataclass(frozen=True, eq=False)
@@ -128,6 +132,38 @@ def _compiled(A: sp.csr_matrix, p_diag, up_rows, lo_rows) -> _Compiled:
     return compiled
 
 
+def _separable_minimum(problem: QPProblem, A: sp.csr_matrix):
+    """(x, QPSolution) when the objective's separable minimum meets every constraint, else None.
+
+    The minimum over each variable alone: -c / p where p > 0; 0 for a variable without a quadratic
+    term whose cost c >= 0 and which a row bounds below at 0 (a slack). When that point is feasible
+    it minimises the objective over a superset of the feasible set, so it is the solution (KKT with
+    zero multipliers on every row but the slacks' own): no solver needed.
+    """
+    t0 = time.perf_counter()
+    p, c = problem.p_diag, problem.c
+    lin = p <= 0.0
+    if np.any(lin):
+        if np.any(c[lin] < 0.0):
+            return None
+        single = np.diff(A.indptr) == 1  # rows with one entry
+        rows = np.flatnonzero(single & (problem.lower == 0.0))
+        bounded = np.zeros(p.shape[0], dtype=bool)
+        cols = A.indices[A.indptr[rows]]
+        bounded[cols[A.data[A.indptr[rows]] > 0]] = True
+        if not np.all(bounded[lin]):
+            return None
+    x0 = np.where(lin, 0.0, -c / np.where(lin, 1.0, p))
+    ax = A @ x0
+    if not (np.all(ax <= problem.upper) and np.all(ax >= problem.lower)):
+        return None
+    res = {"primal_inf": 0.0, "stationarity_inf": float(np.max(np.abs(np.where(lin, 0.0, p * x0 + c)), initial=0.0)),
+           "complementarity_inf": 0.0, "objective": problem.objective(x0), "solver_time_s": 0.0,
+           "primal_rel": 0.0, "stationarity_rel": 0.0}
+    return x0, QPSolution(problem.name, "optimal", True, time.perf_counter() - t0,
+                          "none (the separable minimum is feasible)", {}, res)
+
+
 def solve(problem: QPProblem, solver: str = "CLARABEL") -> tuple[np.ndarray, QPSolution]:
     """Solve ``problem`` in one cvxpy call. Returns (x (n,), QPSolution without values); x is NaN when
     the solver gives no solution. A non-optimal status is reported in QPSolution.ok = False."""
@@ -138,15 +174,9 @@ def solve(problem: QPProblem, solver: str = "CLARABEL") -> tuple[np.ndarray, QPS
         return np.zeros(0), QPSolution(problem.name, "optimal", True, 0.0, solver, {}, {
             "primal_inf": 0.0, "stationarity_inf": 0.0, "complementarity_inf": 0.0, "objective": 0.0})
     A = sp.csr_matrix(problem.A)
-    if np.all(problem.p_diag > 0.0):
-        t0 = time.perf_counter()
-        x0 = -problem.c / problem.p_diag
-        ax = A @ x0
-        if np.all(ax <= problem.upper) and np.all(ax >= problem.lower):
-            res = {"primal_inf": 0.0, "stationarity_inf": float(np.max(np.abs(problem.p_diag * x0 + problem.c))),
-                   "complementarity_inf": 0.0, "objective": problem.objective(x0), "solver_time_s": 0.0}
-            return x0, QPSolution(problem.name, "optimal", True, time.perf_counter() - t0,
-                                  "none (unconstrained minimum is feasible)", {}, res)
+    shortcut = _separable_minimum(problem, A)
+    if shortcut is not None:
+        return shortcut
     up_rows = np.flatnonzero(np.isfinite(problem.upper))
     lo_rows = np.flatnonzero(np.isfinite(problem.lower))
     compiled = _compiled(A, problem.p_diag, up_rows, lo_rows)
@@ -157,8 +187,11 @@ def solve(problem: QPProblem, solver: str = "CLARABEL") -> tuple[np.ndarray, QPS
     if compiled.lower is not None:
         compiled.lower.value = problem.lower[lo_rows]
     t0 = time.perf_counter()
+    # OSQP (first order) is run to tight tolerances so that its answer can pass REL_TOL; Clarabel's own
+    # defaults (1e-8) already do
+    opts = {"eps_abs": 1e-9, "eps_rel": 1e-9, "polishing": True, "max_iter": 200000} if solver.upper() == "OSQP" else {}
     try:
-        prob.solve(solver=solver.upper())
+        prob.solve(solver=solver.upper(), **opts)
         status = str(prob.status)
     except cp.error.SolverError as exc:
         status = f"solver error: {exc}"
@@ -182,8 +215,21 @@ def solve(problem: QPProblem, solver: str = "CLARABEL") -> tuple[np.ndarray, QPS
             yl = np.asarray(cons[i].dual_value, dtype=float).ravel()
             y[lo_rows] -= yl
             comp = max(comp, float(np.max(np.abs(yl * (ax[lo_rows] - problem.lower[lo_rows])))))
-        grad = problem.p_diag * xv + problem.c + A.T @ y
+        px, aty = problem.p_diag * xv, A.T @ y
+        grad = px + problem.c + aty
         res["stationarity_inf"] = float(np.max(np.abs(grad)))
         res["complementarity_inf"] = comp
         res["objective"] = problem.objective(xv)
+        bounds = np.concatenate([problem.upper[np.isfinite(problem.upper)], problem.lower[np.isfinite(problem.lower)]])
+        scale_p = 1.0 + max(float(np.max(np.abs(ax), initial=0.0)), float(np.max(np.abs(bounds), initial=0.0)))
+        scale_d = 1.0 + max(float(np.max(np.abs(px), initial=0.0)), float(np.max(np.abs(problem.c), initial=0.0)),
+                            float(np.max(np.abs(aty), initial=0.0)))
+        res["primal_rel"] = res["primal_inf"] / scale_p
+        res["stationarity_rel"] = res["stationarity_inf"] / scale_d
+        ok = ok and res["primal_rel"] <= REL_TOL and res["stationarity_rel"] <= REL_TOL
+        if not ok and status in OK_STATUSES:
+            status = (f"optimal by the solver's status, but KKT residuals too large (primal {res['primal_rel']:.1e}, "
+                      f"stationarity {res['stationarity_rel']:.1e} relative; accepted <= {REL_TOL:g})")
+    else:
+        ok = False
     return xv, QPSolution(problem.name, status, ok, elapsed, solver.upper(), {}, res)

@@ -1,15 +1,15 @@
 """Export of the nearest feasible joint motion (the motion QP's result) as MODIFIED targets.
 
 The file is never the reviewed plan: its first line says MODIFIED, its metadata names the plan and
-robot it was derived from and says what was not recomputed, and its file name must contain
+robot it was derived from and says how it was checked, and its file name must contain
 "modified" so that it cannot pass for the original targets on the way to the hardware.
 
 Layout (CSV): a first line ``# legbridge-MODIFIED-targets {json metadata}``, a header row, then one
 row per sample: ``case``, ``time_s``, and per joint ``<joint>_position_rad`` (the QP's positions),
 ``<joint>_velocity_rad_s`` (forward differences of those positions at the export rate, the same
 differences the QP bounds by the speed limit; the last sample repeats the one before) and
-``<joint>_deviation_rad`` (modified minus planned). Torques, currents and ground forces are not
-recomputed for the modified motion: translate and review it again before any use.
+``<joint>_deviation_rad`` (modified minus planned). The review checked the modified motion again
+(limits.checks.case.recheck_corrected); review it as a plan of its own before any use.
 """
 
 from __future__ import annotations
@@ -65,9 +65,10 @@ def write_corrected_targets(review, path, *, force: bool = False):
     joints = list(robot.joint_names)
     cols = ["case", "time_s"] + [f"{j}_{s}" for j in joints for s in ("position_rad", "velocity_rad_s", "deviation_rad")]
     meta = {
-        "content": "MODIFIED joint targets: the nearest motion within the hard stops, speed and acceleration limits "
-                   "(nearest-motion QP). NOT the reviewed plan. Torques, currents and ground forces were not "
-                   "recomputed for it: translate and review it again before any use.",
+        "content": "MODIFIED joint targets: the nearest motion within the hard stops, speed limits and the actuators' "
+                   "torque (linearised about the plan), stance foot held (nearest-motion QP). NOT the reviewed plan. "
+                   "The review checked it again (corrected_recheck in review.json); review it as a plan of its own "
+                   "before any use.",
         "tool_version": tool_version(),
         "provenance": dict(review.provenance),
         "derived_from": {"plan": {"path": str(plan.path), "sha256": plan.sha256},

@@ -45,6 +45,8 @@ Schema (every number SI; a number that is not finite is written as null; times i
                     objective, solver_time_s}, and for the force QP max_shortfall_n,
                     max_shortfall_pct, n_infeasible_samples; for the motion QP max_deviation_rad
                     (joint -> rad), max_foot_deviation_m}
+      corrected_recheck  null, or {verdict, still_exceeds: [{limit, joint, utilisation}]}: the
+                    nearest-motion QP's corrected targets checked again with every check
 
 Limit names: limits.checks.limit_names() (the 'limits' list of the document).
 """
@@ -110,6 +112,10 @@ def case_to_json(case) -> dict:
         "base_residual": traj.base_residual_summary(),
         "qp": {"force_feasibility": _qp(case.force_qp, "force", traj.joint_names),
                "nearest_motion": _qp(case.motion_qp, "motion", traj.joint_names)},
+        "corrected_recheck": None if case.corrected is None else {
+            "verdict": case.corrected.verdict.value,
+            "still_exceeds": [{"limit": w.limit, "joint": w.joint, "utilisation": w.utilisation}
+                              for w in case.corrected.by_limit if w.utilisation > 1.0]},
     }
 
 

@@ -51,6 +51,12 @@ def case_lines(review: Review) -> list[str]:
                    f"{s.n_near} near")
         for f in c.findings:
             out.append(f"  {'':<{width}}  could not be evaluated: {f}")
+        if c.corrected is not None and not c.summary.passes:
+            still = [w for w in c.corrected.by_limit if w.utilisation > 1.0]
+            out.append(f"  {'':<{width}}  nearest feasible motion (QP, MODIFIED targets): "
+                       + ("within the modelled limits when checked again" if not still else
+                          "still exceeds " + "; ".join(w.text for w in still[:3])
+                          + (f" (+{len(still) - 3} more)" if len(still) > 3 else "")))
         if c.spring_steps:
             big = max(c.spring_steps, key=lambda x: abs(x.step_nm))
             out.append(f"  {'':<{width}}  {len(c.spring_steps)} torque step(s) through series springs at touchdown/liftoff; "

@@ -31,7 +31,8 @@ def test_force_qp_with_feasible_samples_left_out_equals_the_full_problem(demo_ca
     full = fqp.build(traj.jacobian[idx], traj.tau_free[idx], traj.foot_force_n[idx], lo[idx], hi[idx], robot.ground_friction)
     x, full_sol = solve(full)
     assert sol.ok and full_sol.ok
-    f_full, _ = fqp.unpack(x, idx.size, traj.n_joints)
+    df_full, _ = fqp.unpack(x, idx.size, traj.n_joints)
+    f_full = traj.foot_force_n[idx] + df_full
     np.testing.assert_allclose(sol.values["force_n"][idx], f_full, atol=1e-4 * np.abs(f_full).max())
 
 
