@@ -105,9 +105,10 @@ def build(q_plan, lower, upper, vmax, amax, dt: float, *, torque=None, contact=N
     linearised torque rows; contact: None, or (jacobian (n, 2, j), stance (n,) bool). Without torque
     rows every row is hard and the variables are dq alone (x[k j + i] = dq_k,i): n j range rows,
     (n-1) j speed rows, (n-2) j acceleration rows. With them the range, speed and torque rows are
-    soft (one slack per row, s >= 0, weight ``slack_weight``: an exact penalty, so s = 0 wherever a
-    motion meets them; the stance contact rows, hard, may leave none) and the acceleration estimate is
-    left out (the torque rows bound the acceleration with the real inertia). Variables: [dq, slacks].
+    soft where the plan itself is outside them (one slack per such row, s >= 0, weight ``slack_weight``:
+    an exact penalty, so s = 0 wherever a motion meets them; the stance contact rows, hard, may leave
+    none) and the acceleration estimate is left out (the torque rows bound the acceleration with the
+    real inertia). Variables: [dq, slacks].
     """
     q0 = np.asarray(q_plan, dtype=float)
     n, nj = q0.shape
@@ -131,23 +132,28 @@ def build(q_plan, lower, upper, vmax, amax, dt: float, *, torque=None, contact=N
         r, c, v = _torque_rows(mass, n, nj, dt)
         mt = sp.csr_matrix((v, (r, c)), shape=((n - 2) * nj, nq))
         rows.append((mt, (t_lo - tau_plan)[1:-1].ravel(), (t_hi - tau_plan)[1:-1].ravel(), "torque"))
-    ns = sum(b.shape[0] for b, *_ in rows) if soft else 0
+    # Slacks only where the plan itself is outside a row (dq = 0 then meets every other row, so the
+    # problem stays feasible with the stance foot held): a few hundred columns, not one per row.
+    need = [np.flatnonzero((l > 0.0) | (h < 0.0)) if soft else np.zeros(0, dtype=int) for _, l, h, _ in rows]
+    ns = int(sum(k.size for k in need))
     blocks, lo, hi, labels, offsets = [], [], [], [], {}
     col = nq
-    for b, l, h, name in rows:
-        if soft:
-            eye_s = sp.csr_matrix((np.ones(b.shape[0]), (np.arange(b.shape[0]), col + np.arange(b.shape[0]))),
-                                  shape=(b.shape[0], nq + ns))
-            bb = sp.hstack([b, sp.csr_matrix((b.shape[0], ns))]).tocsr()
-            blocks += [bb - eye_s, bb + eye_s]          # b dq - s <= hi ;  b dq + s >= lo
-            lo += [np.full(b.shape[0], -np.inf), l]
-            hi += [h, np.full(b.shape[0], np.inf)]
-            labels += [name + "_hi", name + "_lo"]
-            offsets[name] = (col, b.shape[0])
-            col += b.shape[0]
-        else:
-            blocks.append(b)
-            lo.append(l); hi.append(h); labels.append(name)
+    for (b, l, h, name), idx in zip(rows, need):
+        blocks.append(b)
+        lo.append(l); hi.append(h); labels.append(name)
+        if idx.size:
+            sub = b[idx]
+            eye_s = sp.csr_matrix((np.ones(idx.size), (np.arange(idx.size), col + np.arange(idx.size))),
+                                  shape=(idx.size, nq + ns))
+            bb = sp.hstack([sub, sp.csr_matrix((idx.size, ns))]).tocsr()
+            blocks[-1] = b[np.setdiff1d(np.arange(b.shape[0]), idx)]       # the rows the plan meets: hard
+            lo[-1], hi[-1] = np.delete(l, idx), np.delete(h, idx)
+            blocks += [bb - eye_s, bb + eye_s]                              # b dq - s <= hi ;  b dq + s >= lo
+            lo += [np.full(idx.size, -np.inf), l[idx]]
+            hi += [h[idx], np.full(idx.size, np.inf)]
+            labels += [name + "_hi (soft)", name + "_lo (soft)"]
+        offsets[name] = (col, idx)
+        col += idx.size
     if contact is not None:
         jac, stance = contact
         idx = np.flatnonzero(np.asarray(stance, dtype=bool))
@@ -195,9 +201,11 @@ def nearest_motion(traj, robot, settings, solver: str = "CLARABEL"):
     qc = q + dq
     slack = np.zeros((n, nj))
     if "torque" in prob.meta["slacks"]:
-        start, count = prob.meta["slacks"]["torque"]
-        slack[1:-1] = x[start:start + count].reshape(n - 2, nj)
-    others = [x[a:a + k] for name, (a, k) in prob.meta["slacks"].items() if name != "torque"]
+        start, rows_ = prob.meta["slacks"]["torque"]
+        inner = np.zeros((n - 2) * nj)
+        inner[rows_] = x[start:start + rows_.size]
+        slack[1:-1] = inner.reshape(n - 2, nj)
+    others = [x[a:a + idx.size] for name, (a, idx) in prob.meta["slacks"].items() if name != "torque"]
     other_slack = float(max((np.max(o, initial=0.0) for o in others), default=0.0))
     foot = np.einsum("kri,ki->kr", np.asarray(traj.jacobian, dtype=float), dq)
     values = {"q_corrected_rad": qc, "deviation_rad": dq, "foot_deviation_m": foot,
