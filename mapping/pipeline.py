@@ -58,6 +58,34 @@ def read_against(plan, robot: Robot) -> Plan:
     raise UsageError("not a plan", key="plan", expected="a Plan or a plan file path", found=type(plan).__name__)
 
 
+ACTUATOR_JUMP_M = 1e-3
+"""A step of the plan's actuator length above this [m] between two samples, and five times the steps
+beside it (a ramp's steps are alike), is reported: an open-loop policy whose end does not meet its
+start jumps at every restart."""
+
+
+def actuator_jumps(plan) -> tuple[str, ...]:
+    """Warnings for jumps in each case's actuator_length_m column (a discontinuous policy)."""
+    import numpy as np
+
+    out = []
+    for c in plan.cases:
+        a = getattr(c, "actuator_length_m", None)
+        if a is None or len(a) < 3:
+            continue
+        step = np.abs(np.diff(np.asarray(a, dtype=float)))
+        pad = np.pad(step, 1)
+        beside = np.maximum(pad[:-2], pad[2:])
+        big = np.flatnonzero((step > ACTUATOR_JUMP_M) & (step > 5.0 * beside))
+        if big.size:
+            k = int(big[np.argmax(step[big])])
+            out.append(f"{plan.path}: case '{c.name}': the actuator length jumps {1e3 * step[k]:.3g} mm at "
+                       f"t = {float(c.time_s[k + 1]):.4g} s ({big.size} jump(s) over {1e3 * ACTUATOR_JUMP_M:g} mm); an "
+                       "open-loop policy that does not end where it starts jumps at every restart: the resampling "
+                       "cuts there, but the hardware cannot follow a jump")
+    return tuple(out)
+
+
 def prepare(plan, robot, *, rate_hz: float, cases=None, leg_model=None) -> Prepared:
     """Read ``plan`` against ``robot``, refuse it when its units cannot be the robot's (a probable
     unit slip: millimetres, centimetres, degrees; mapping.readers.plausibility), and translate its
@@ -72,7 +100,7 @@ def prepare(plan, robot, *, rate_hz: float, cases=None, leg_model=None) -> Prepa
     from .translate import translate_plan
 
     leg = leg_model if leg_model is not None else build_leg_model(robot)
-    warnings = check_units(plan, robot, leg_model=leg)
+    warnings = tuple(check_units(plan, robot, leg_model=leg)) + actuator_jumps(plan)
     trajs = translate_plan(plan, robot, rate_hz=rate, cases=cases, leg_model=leg)
     return Prepared(plan, robot, tuple(trajs), rate, tuple(warnings))
 
