@@ -64,12 +64,15 @@ _RANK = {Verdict.WITHIN: 0, Verdict.NEAR: 1, Verdict.NOT_EVALUATED: 2, Verdict.E
 def utilisation_text(u) -> str:
     """Utilisation (value / allowed) in %: 0.1 % steps, 0.01 % steps within 0.5 % of the limit (so an
     exceeding 100.004 % reads '100.00 %', not a misleading '100.0 %' next to 'exceeds'); words when it
-    is not a number ('not evaluated') or infinite ('not finite (counted as exceeding)': fail closed)."""
+    is not a number ('not evaluated'), infinite ('not finite (counted as exceeding)': fail closed) or
+    beyond a million per cent ('over 1,000,000 %')."""
     if u is None or math.isnan(float(u)):
         return "not evaluated"
     u = float(u)
     if math.isinf(u):
         return "not finite (counted as exceeding)"
+    if u >= 1e4:  # beyond a million per cent the digits say nothing more
+        return "over 1,000,000 %"
     digits = 2 if abs(u - 1.0) < 0.005 else 1
     return f"{100.0 * u:.{digits}f} %"
 

@@ -45,6 +45,8 @@ class JointTrajectory:
     base_pitch_rad (n,), base_velocity, base_accel (n, 3): the base (body) pitch [rad] and its (x, z,
         pitch) velocity [m/s, m/s, rad/s] and acceleration; in flight from the free-floating equations
         (mapping.free_flight). None when built by hand.
+    pieces (n,) int: the interpolation piece of each sample (mapping.resample.ResampledCase.pieces):
+        rates of the spring torque are never taken across a change of piece. None when built by hand.
     """
 
     case: str
@@ -73,6 +75,7 @@ class JointTrajectory:
     base_pitch_rad: np.ndarray | None = None
     base_velocity: np.ndarray | None = None
     base_accel: np.ndarray | None = None
+    pieces: np.ndarray | None = None
 
     @property
     def n_samples(self) -> int:

@@ -197,6 +197,7 @@ def translate_resampled(rs: ResampledCase, robot: Robot, leg: LegModel, *, name:
         base_pitch_rad=frozen_array(base_q[:, 2]),
         base_velocity=frozen_array(base_v),
         base_accel=frozen_array(base_a),
+        pieces=frozen_array(rs.pieces, dtype=int),
     )
 
 

@@ -113,7 +113,9 @@ class _Period:
         self.phi, self.gamma = big_p[-1], small_p[-1]
         d = self.phi.shape[0]
         self.eye = np.eye(d)
-        self.rho = float(np.max(np.abs(np.linalg.eigvals(self.phi))))
+        finite = bool(np.all(np.isfinite(self.phi)) and np.all(np.isfinite(self.gamma)))
+        # an overflow (a current so large that the loss outgrows any cooling within one sample) is a runaway
+        self.rho = float(np.max(np.abs(np.linalg.eigvals(self.phi)))) if finite else np.inf
         self.runaway = self.rho >= 1.0 - RUNAWAY_TOL
         self.x_steady = None if self.runaway else np.linalg.solve(self.eye - self.phi, self.gamma)
 
@@ -194,7 +196,14 @@ def simulate(traj, robot, duration_s: float | None = None) -> ThermalResult:
     periods = []
     for k, joint in enumerate(joints):  # one scan per joint (coefficients differ), no loop over samples
         act = joint.actuator
-        per = _Period(*prefix_maps(*sample_maps(act.thermal, act.winding_resistance_ohm, traj.current_a[:, k], dt)))
+        cur = np.asarray(traj.current_a[:, k], dtype=float)
+        if not np.all(np.isfinite(cur)):  # an unknown current: the heat cannot be evaluated (fail closed)
+            phase[:, k] = np.nan
+            ttl[joint.name], runaway[joint.name], steady_peak[joint.name] = None, False, float("nan")
+            periods.append(None)
+            continue
+        with np.errstate(over="ignore", invalid="ignore"):
+            per = _Period(*prefix_maps(*sample_maps(act.thermal, act.winding_resistance_ohm, cur, dt)))
         periods.append(per)
         runaway[joint.name] = per.runaway
         limit_rise = tmax[k] - amb[k]
@@ -236,7 +245,7 @@ def _display(periods, amb, period: float, dt: float, m: int | None, ttl: dict):
     else:
         horizon = 0.0
         for per in periods:
-            if per.runaway:
+            if per is None or per.runaway:
                 continue
             # repetitions until Phi^j has decayed to 1 % (spectral radius rho per repetition)
             horizon = max(horizon, math.log(0.01) / math.log(max(per.rho, 1e-300)) if per.rho > 0 else 1.0)
@@ -247,6 +256,9 @@ def _display(periods, amb, period: float, dt: float, m: int | None, ttl: dict):
     time = js * period
     temps = np.empty((js.size, len(periods)))
     for c, per in enumerate(periods):
+        if per is None:
+            temps[:, c] = np.nan
+            continue
         for r, j in enumerate(js):  # one O(n) evaluation per shown repetition
             if j == 0:
                 temps[r, c] = amb[c]

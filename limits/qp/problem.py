@@ -25,7 +25,7 @@ import scipy.sparse as sp
 from legbridge.limits.checks.results import QPSolution
 
 OK_STATUSES = ("optimal",)
-REL_TOL = 1e-5
+REL_TOL = 1e-4
 """A solution is accepted only when its status is optimal AND its KKT residuals, relative to the
 problem's own scale, are below this: primal |viol| / (1 + max(|A x|, |bounds|)) and stationarity
 |P x + c + A^T y| / (1 + max(|P x|, |c|, |A^T y|)) (a solver's status alone is not enough)."""

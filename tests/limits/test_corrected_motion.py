@@ -51,7 +51,7 @@ def test_the_stance_foot_stays_on_the_ground(corrected):
     st = np.asarray(traj.stance)
     moved = np.linalg.norm(_foot(leg, qc[st]) - _foot(leg, np.asarray(traj.q)[st]), axis=1)
     assert moved.max() < 1e-3  # less than 1 mm (first-order contact rows, exact for the two-joint leg)
-    assert sol.residuals["primal_rel"] < 1e-5 and sol.residuals["stationarity_rel"] < 1e-5  # accepted on KKT
+    assert sol.residuals["primal_rel"] < 1e-4 and sol.residuals["stationarity_rel"] < 1e-4  # accepted on KKT
 
 
 def test_what_the_qp_claims_holds_on_the_corrected_targets(corrected):

@@ -145,3 +145,20 @@ def test_continuous_current_check_and_duration_shorter_than_the_plan(example_rob
     short = check_case(traj, example_robot, CheckSettings(run_qps=False, duration_s=0.5))
     assert short.thermal.duration_s == 0.5  # a 0.5 s test of a 1 s plan stays 0.5 s (no longer raised)
     assert not any(t.limit == "continuous_current" for t in short.traces)  # a finite test: the temperature judges
+
+
+def test_an_unknown_or_enormous_current_fails_closed(example_robot, make_traj):
+    # fail closed: a current that is not a number cannot be heated (not evaluated); one so large that
+    # the loss outgrows any cooling within a sample (1e6 A) is a thermal runaway (counted as exceeding)
+    from legbridge.limits.checks.case import check_case
+
+    traj, _ = _constant_current(example_robot, make_traj, 5.0, n=50)
+    cur = np.array(traj.current_a, copy=True)
+    cur[10, 1] = np.nan
+    th = simulate(replace(traj, current_a=cur), example_robot)
+    assert np.all(np.isnan(th.phase_temp_c[:, 1])) and th.time_to_limit_s["knee"] is None
+    r = check_case(replace(traj, current_a=cur), example_robot, CheckSettings(run_qps=False))
+    assert any(f.startswith("winding_temperature of knee: value not finite") for f in r.findings) and not r.passed
+    cur[10, 1] = 1e6
+    th = simulate(replace(traj, current_a=cur), example_robot)
+    assert th.runaway["knee"] and np.all(np.isinf(th.phase_temp_c[:, 1]))
