@@ -132,6 +132,8 @@ def kink_samples(t: np.ndarray, y: np.ndarray) -> np.ndarray:
     With s_i the slope of interval i, the change of slope at sample i is ds_i = s_i - s_{i-1}; the
     sample is a kink when |ds_i| > KINK_RATIO max(|ds_{i-2}|, |ds_{i+2}|) + KINK_TOL max|s| for some
     column. A kink between two samples shows at both and splits there twice (a straight piece between).
+    A step of the curvature (the third difference far above its value two steps away) is cut too:
+    a C2 spline through it rings as well.
     """
     m = t.shape[0]
     if m < 3:
@@ -145,7 +147,20 @@ def kink_samples(t: np.ndarray, y: np.ndarray) -> np.ndarray:
     ref = np.where(np.isnan(ref), np.inf, ref)
     tol = KINK_TOL * np.max(np.abs(slope), axis=0, initial=0.0)
     kink = np.any(ds > KINK_RATIO * ref + tol, axis=1)
-    return np.flatnonzero(kink) + 1
+    cuts = set((np.flatnonzero(kink) + 1).tolist())
+    # a step of the curvature (a ramp that starts bending at once): the change of the slope change,
+    # d3_j = ds_j+1 - ds_j, far above its value two steps away; cut at the sample where it starts
+    sds = np.diff(slope, axis=0)                                  # signed ds
+    if sds.shape[0] >= 2:
+        d3 = np.abs(np.diff(sds, axis=0))                         # (m - 3, k), between samples j + 1 and j + 2
+        pad3 = np.pad(d3, ((2, 2), (0, 0)), constant_values=np.nan)
+        with np.errstate(invalid="ignore"):
+            ref3 = np.fmax(pad3[:-4], pad3[4:])
+        ref3 = np.where(np.isnan(ref3), np.inf, ref3)
+        tol3 = KINK_TOL * np.max(ds, axis=0, initial=0.0)
+        step = np.any(d3 > KINK_RATIO * ref3 + tol3, axis=1)
+        cuts |= set((np.flatnonzero(step) + 1).tolist())
+    return np.array(sorted(cuts), dtype=int)
 
 
 def _piece_fit(t: np.ndarray, y: np.ndarray):
