@@ -58,8 +58,10 @@ def test_motor_side_does_not_depend_on_the_export_rate():
     # grew with the square of the rate (166 A at 500 Hz, 10129 A at 4 kHz: a difference across
     # touchdown). Now the series-elastic knee's peak current, voltage and motor speed agree across
     # 500 Hz, 1, 2 and 4 kHz within 2 %. Every joint agrees between 2 and 4 kHz within 2 %; at 1 kHz
-    # within 3 % and at 500 Hz (the plan's own rate) within 7 %: the rigid hip's voltage peak at a
-    # touchdown is narrow, and a coarse grid samples it lower.
+    # within 3 % and at 500 Hz (the plan's own rate) within 7 %: the rigid hip's voltage rises through
+    # the flight up to the touchdown, and a finer grid has samples in the 2 ms between the plan's last
+    # flight sample and its first stance sample (the gap rule holds the flight there); a 500 Hz grid
+    # has none, so the hardware at 500 Hz never sees those last 0.5 V.
     plan = demo_plan((0.0,))
     peaks = {}
     for rate in (500.0, 1000.0, 2000.0, 4000.0):
