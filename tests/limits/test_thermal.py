@@ -70,6 +70,14 @@ def _constant_current(example_robot, make_traj, current, n=1000):
     return traj, act
 
 
+def _square_wave(example_robot, make_traj, amps, on=300, n=1000):
+    """The knee at standstill drawing ``amps`` for the first ``on`` of ``n`` samples at 1 kHz, then 0."""
+    cur = np.where(np.arange(n) < on, amps, 0.0)
+    act = example_robot.joints[1].actuator
+    tau_knee = cur * act.torque_constant_nm_per_a * act.gear_ratio * act.gearbox_efficiency
+    return make_traj(example_robot, np.tile([0.2, -1.0], (n, 1)), tau=np.column_stack([np.zeros(n), tau_knee]))
+
+
 def test_time_to_limit_with_a_resistance_that_rises_with_temperature(example_robot, make_traj):
     # example knee: R_ref 0.25 ohm at 25 degC = ambient, R_th 1.8 K/W, tau 60 s, limit 120 degC;
     # copper alpha 0.00393 /K by default. 30 A: P0 = 225 W, alpha P0 R_th = 1.59 >= 1: runaway.
@@ -107,12 +115,7 @@ def test_thermal_runaway_is_detected(example_robot, make_traj):
 def test_periodic_steady_state_matches_scipy_over_many_periods(example_robot, make_traj):
     # square-wave current, 1 s period (0.3 s at 20 A, then 0): the periodic steady state against
     # SciPy: the fixed point of the period map (solve_ivp over one period, brentq for the fixed point)
-    n = 1000
-    cur = np.where(np.arange(n) < 300, 20.0, 0.0)
-    act = example_robot.joints[1].actuator
-    tau_knee = cur * act.torque_constant_nm_per_a * act.gear_ratio * act.gearbox_efficiency
-    traj = make_traj(example_robot, np.tile([0.2, -1.0], (n, 1)), tau=np.column_stack([np.zeros(n), tau_knee]))
-    th = simulate(traj, example_robot)
+    th = simulate(_square_wave(example_robot, make_traj, 20.0), example_robot)
     c, a, r = 60.0 / 1.8, 0.00393, 0.25
 
     def f(t, x, i):
@@ -135,11 +138,7 @@ def test_continuous_current_check_and_duration_shorter_than_the_plan(example_rob
     # 30 A for 30 % of the time has RMS 30 sqrt(0.3) = 16.43 A -> 136.9 %
     from legbridge.limits.checks.case import check_case
 
-    n = 1000
-    cur = np.where(np.arange(n) < 300, 30.0, 0.0)
-    act = example_robot.joints[1].actuator
-    tau_knee = cur * act.torque_constant_nm_per_a * act.gear_ratio * act.gearbox_efficiency
-    traj = make_traj(example_robot, np.tile([0.2, -1.0], (n, 1)), tau=np.column_stack([np.zeros(n), tau_knee]))
+    traj = _square_wave(example_robot, make_traj, 30.0)
     r = check_case(traj, example_robot, CheckSettings(run_qps=False))  # repeated without end (default)
     assert r.trace("continuous_current", "knee").utilisation[0] == pytest.approx(30 * math.sqrt(0.3) / 12.0, rel=1e-12)
     short = check_case(traj, example_robot, CheckSettings(run_qps=False, duration_s=0.5))

@@ -122,8 +122,8 @@ def test_dls_matches_closed_form_on_a_straight_leg(example_leg_model):
     assert np.all(sol.flags == 0)
 
 
-def offset_leg():
-    """A leg whose knee is 3 cm ahead of the thigh axis (URDF-like offset geometry)."""
+def _planar_base():
+    """(model, pitch joint id): the planar base (x, z, pitch) with a 10 kg body and the hip frame."""
     model = pin.Model()
     ident = pin.SE3.Identity()
     jx = model.addJoint(0, pin.JointModelPX(), ident, BASE_JOINTS[0])
@@ -131,6 +131,13 @@ def offset_leg():
     jp = model.addJoint(jz, pin.JointModelRY(), ident, BASE_JOINTS[2])
     model.appendBodyToJoint(jp, pin.Inertia(10.0, np.zeros(3), np.eye(3) * 0.5), ident)
     model.addFrame(pin.Frame(HIP_FRAME, jp, ident, pin.FrameType.OP_FRAME))
+    return model, jp
+
+
+def offset_leg():
+    """A leg whose knee is 3 cm ahead of the thigh axis (URDF-like offset geometry)."""
+    model, jp = _planar_base()
+    ident = pin.SE3.Identity()
     h = model.addJoint(jp, pin.JointModelRY(), ident, "hip")
     model.appendBodyToJoint(h, pin.Inertia(1.0, np.array([0, 0, -0.15]), np.eye(3) * 0.01), ident)
     k = model.addJoint(h, pin.JointModelRY(), pin.SE3(np.eye(3), np.array([0.03, 0, -0.38])), "knee")
@@ -423,13 +430,8 @@ def test_offset_closed_form_reduces_to_the_textbook_on_a_straight_chain():
 
 def tilted_knee_leg(tilt):
     """A leg that is NOT a planar chain: the knee axis leans by ``tilt`` rad towards +x."""
-    model = pin.Model()
+    model, jp = _planar_base()
     ident = pin.SE3.Identity()
-    jx = model.addJoint(0, pin.JointModelPX(), ident, BASE_JOINTS[0])
-    jz = model.addJoint(jx, pin.JointModelPZ(), ident, BASE_JOINTS[1])
-    jp = model.addJoint(jz, pin.JointModelRY(), ident, BASE_JOINTS[2])
-    model.appendBodyToJoint(jp, pin.Inertia(10.0, np.zeros(3), np.eye(3) * 0.5), ident)
-    model.addFrame(pin.Frame(HIP_FRAME, jp, ident, pin.FrameType.OP_FRAME))
     h = model.addJoint(jp, pin.JointModelRY(), ident, "hip")
     axis = np.array([np.sin(tilt), np.cos(tilt), 0.0])
     k = model.addJoint(h, pin.JointModelRevoluteUnaligned(axis), pin.SE3(np.eye(3), np.array([*A1[:1], 0, A1[1]])), "knee")
