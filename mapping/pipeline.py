@@ -94,12 +94,12 @@ def prepare(plan, robot, *, rate_hz: float, cases=None, leg_model=None) -> Prepa
     rate = check_rate(rate_hz)
     robot = as_robot(robot)
     plan = read_against(plan, robot)
-    from legbridge.robots.leg_model import build_leg_model
+    from legbridge.robots.leg_model import cached_leg_model
 
     from .readers.plausibility import check_units
     from .translate import translate_plan
 
-    leg = leg_model if leg_model is not None else build_leg_model(robot)
+    leg = leg_model if leg_model is not None else cached_leg_model(robot)
     warnings = tuple(check_units(plan, robot, leg_model=leg)) + actuator_jumps(plan)
     trajs = translate_plan(plan, robot, rate_hz=rate, cases=cases, leg_model=leg)
     return Prepared(plan, robot, tuple(trajs), rate, tuple(warnings))

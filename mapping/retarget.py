@@ -19,7 +19,7 @@ from dataclasses import replace
 import numpy as np
 import pinocchio as pin
 
-from legbridge.robots.leg_model import LegModel, build_leg_model
+from legbridge.robots.leg_model import LegModel, cached_leg_model
 
 from .dynamics import foot_force_local, inverse_dynamics
 from .motor_side import motor_side
@@ -56,7 +56,7 @@ def joint_mass_matrices(leg: LegModel, q: np.ndarray, base_pitch=None) -> np.nda
 
 def with_joint_motion(traj, robot, q_new, leg_model: LegModel | None = None):
     """``traj`` with joint positions ``q_new`` (n, j) [rad] (see the module docstring)."""
-    leg = leg_model if leg_model is not None else build_leg_model(robot)
+    leg = leg_model if leg_model is not None else cached_leg_model(robot)
     q_new = np.asarray(q_new, dtype=float)
     q0 = np.asarray(traj.q, dtype=float)
     dt = 1.0 / float(traj.rate_hz)

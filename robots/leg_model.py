@@ -124,3 +124,20 @@ def build_leg_model(robot: Robot) -> LegModel:
         parent, placement = j, pin.SE3(np.eye(3), np.array([0.0, 0.0, -seg.length_m]))
     model.addFrame(pin.Frame(FOOT_FRAME, parent, placement, pin.FrameType.OP_FRAME))
     return index_model(model, robot.joint_names, FOOT_FRAME, HIP_FRAME)
+
+
+_CACHE: dict = {}
+
+
+def cached_leg_model(robot: Robot) -> LegModel:
+    """build_leg_model(robot), built once per process and robot (keyed by the robot's content, so a
+    Robot built in code and one read from a file are told apart by what they hold)."""
+    import hashlib
+    import pickle
+
+    key = hashlib.sha256(pickle.dumps(robot)).hexdigest()
+    if key not in _CACHE:
+        if len(_CACHE) >= 16:
+            _CACHE.clear()
+        _CACHE[key] = build_leg_model(robot)
+    return _CACHE[key]

@@ -58,9 +58,9 @@ def joint_inertia_diag_kgm2(robot, q) -> np.ndarray:
         return out
     import pinocchio as pin
 
-    from legbridge.robots.leg_model import build_leg_model
+    from legbridge.robots.leg_model import cached_leg_model
 
-    lm = build_leg_model(robot)
+    lm = cached_leg_model(robot)
     data = lm.model.createData()
     out = np.empty((n, nj))
     for k in range(n):  # URDF legs only: CRBA has no batched form
@@ -179,7 +179,7 @@ def nearest_motion(traj, robot, settings, solver: str = "CLARABEL"):
     from dataclasses import replace
 
     from legbridge.mapping.retarget import joint_mass_matrices
-    from legbridge.robots.leg_model import build_leg_model
+    from legbridge.robots.leg_model import cached_leg_model
 
     from .force import torque_bounds
 
@@ -191,7 +191,7 @@ def nearest_motion(traj, robot, settings, solver: str = "CLARABEL"):
     dt = 1.0 / float(traj.rate_hz)
     q = np.asarray(traj.q, dtype=float)
     n, nj = q.shape
-    leg = build_leg_model(robot)
+    leg = cached_leg_model(robot)
     mass = joint_mass_matrices(leg, q, traj.base_pitch_rad)
     t_lo, t_hi = torque_bounds(traj, robot)
     torque = (mass, np.asarray(traj.tau, dtype=float), t_lo, t_hi)

@@ -43,6 +43,7 @@ from legbridge.limits.sweep.model import (
 from legbridge.mapping.plan import Plan
 from legbridge.mapping.slip import case_name, simulate
 from legbridge.robots.errors import LegbridgeError, SchedulerError, UsageError
+from legbridge.robots.leg_model import cached_leg_model
 
 Progress = Callable[[int, int], None]
 
@@ -59,24 +60,6 @@ def _robot_from_file(path: str, sha256: str):
                               expected=f"SHA-256 {sha256[:12]}...", found=f"{robot.sha256[:12]}...",
                               hint="on a cluster every worker must see the same file at the same path")
     return robot
-
-
-_LEG_MODELS: dict = {}
-
-
-def _leg_model(robot):
-    """The robot's Pinocchio LegModel, built once per process and robot (keyed by the robot's content)."""
-    import hashlib
-    import pickle
-
-    from legbridge.robots import build_leg_model
-
-    key = hashlib.sha256(pickle.dumps(robot)).hexdigest()
-    if key not in _LEG_MODELS:
-        if len(_LEG_MODELS) >= 16:
-            _LEG_MODELS.clear()
-        _LEG_MODELS[key] = build_leg_model(robot)
-    return _LEG_MODELS[key]
 
 
 def _apex_fields(sim) -> dict:
@@ -127,7 +110,7 @@ def run_offset(task: OffsetTask) -> OffsetResult:
     robot = task.robot if task.robot is not None else _robot_from_file(task.robot_path, task.robot_sha256)
     try:
         one = Plan(path=f"<sweep offset {task.offset_m:+.4f} m>", sha256="", cases=(sim.trajectory,), metadata={})
-        (traj,) = prepare(one, robot, rate_hz=task.settings.rate_hz, leg_model=_leg_model(robot)).trajectories
+        (traj,) = prepare(one, robot, rate_hz=task.settings.rate_hz, leg_model=cached_leg_model(robot)).trajectories
     except LegbridgeError as exc:
         t2 = time.perf_counter()
         return replace(base, verdict=Verdict.NOT_EVALUATED, findings=(f"translation failed: {exc}",),
