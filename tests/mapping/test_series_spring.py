@@ -74,3 +74,42 @@ def test_motor_side_does_not_depend_on_the_export_rate():
     np.testing.assert_allclose(peaks[1000.0], ref, rtol=0.03)
     np.testing.assert_allclose(peaks[500.0], ref, rtol=0.07)
     assert ref[0, 1] < 2 * 56.6 * 1.5  # the knee current stays in the range of its drive (no 10 kA artefact)
+
+
+def test_a_touchdown_step_is_the_force_step_times_the_lever_arm(example_robot):
+    # A leg with (almost) no mass of its own, so the joint torque is the ground force's alone,
+    # tau = -J^T F (principle of virtual work): at touchdown the plan's force steps from 0 to F, so
+    # the knee's torque step is -(J^T F)_knee with J the foot Jacobian at the touchdown pose
+    # (Pinocchio, LOCAL_WORLD_ALIGNED), whatever the export rate.
+    import pinocchio as pin
+
+    from legbridge.limits.checks.case import check_case
+    from legbridge.limits.checks.results import CheckSettings
+    from legbridge.mapping.plan import Plan, ReducedTrajectory
+    from legbridge.robots.leg_model import build_leg_model
+
+    robot, _ = _sea_robot(example_robot)
+    light = tuple(dataclasses.replace(s, mass_kg=1e-6, inertia_kgm2=1e-9) for s in robot.segments)
+    robot = dataclasses.replace(robot, segments=light)
+    t = np.arange(0.0, 0.2001, 0.002)
+    stance = t >= 0.1 - 1e-12
+    angle = 0.2 - 1.0 * t
+    force = np.where(stance[:, None], [50.0, 400.0], 0.0)
+    case = ReducedTrajectory("c", t, np.full(t.size, 0.7), angle, force[:, 0], force[:, 1], stance,
+                             body_x_m=np.zeros(t.size), body_z_m=np.zeros(t.size))
+    leg = build_leg_model(robot)
+    steps = {}
+    for rate in (500.0, 2000.0):
+        tr = prepare(Plan("invented.json", "", (case,)), robot, rate_hz=rate, leg_model=leg).trajectories[0]
+        r = check_case(tr, robot, CheckSettings(rate_hz=rate, run_qps=False, duration_s=0.2))
+        (s,) = [x for x in r.spring_steps if x.kind == "touchdown"]
+        k = int(np.searchsorted(tr.time_s, s.time_s))  # the first stance sample
+        qf = pin.neutral(leg.model)
+        qf[leg.q_index] = tr.q[k]
+        data = leg.model.createData()
+        pin.framesForwardKinematics(leg.model, data, qf)
+        jac = pin.computeFrameJacobian(leg.model, data, qf, leg.foot_frame_id, pin.LOCAL_WORLD_ALIGNED)[[0, 2]][:, leg.v_index]
+        expected = -(jac.T @ np.array([50.0, 400.0]))[1]
+        assert s.step_nm == pytest.approx(expected, rel=0.01)
+        steps[rate] = s.step_nm
+    assert steps[500.0] == pytest.approx(steps[2000.0], rel=0.01)
