@@ -174,6 +174,16 @@ def cases(review) -> str:
         res = r.trajectory.base_residual_summary()
         weight = robot.total_mass_kg * STANDARD_GRAVITY_M_S2
         share = f" ({100.0 * max(res['max_force_x_n'], res['max_force_z_n']) / weight:.1f}&nbsp;% of the body weight)" if weight > 0 else ""
+        if r.corrected is not None and not r.summary.passes:
+            still = [w for w in r.corrected.by_limit if w.utilisation > 1.0]
+            findings += ('<p class="note">Nearest feasible motion (motion QP; MODIFIED targets, not the plan), checked '
+                         'again with every check: ' + (escape("within the modelled limits") if not still else
+                         "still exceeds " + escape("; ".join(w.text for w in still))) + ".</p>")
+        for j_name, hot in r.thermal.runaway.items():
+            if hot:
+                findings += (f'<p class="finding">Winding of {escape(j_name)}: thermal runaway '
+                             f'{"when the plan is repeated" if r.thermal.periodic else "if the plan were repeated without end"}'
+                             " (its copper loss grows faster with temperature than it cools: no steady state).</p>")
         if r.spring_steps:
             rows_ = "".join(_row([escape(x.joint), escape(x.kind), (num(x.time_s, ".4f"), "num"), (num(x.step_nm), "num"),
                                   (num(x.windup_rad), "num"), (num(1e3 * x.min_time_s, ".3g"), "num")]) for x in r.spring_steps)
