@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .base import PANEL_TORQUE, SCOPE_JOINT, CheckContext, Limit, ratio, trace
+from .base import SCOPE_JOINT, CheckContext, Limit, ratio, trace
 
 
 def evaluate(ctx: CheckContext):
@@ -27,5 +27,5 @@ def evaluate(ctx: CheckContext):
     return tuple(out)
 
 
-LIMITS = (Limit("continuous_current", "continuous current", "A", SCOPE_JOINT, PANEL_TORQUE, 55, evaluate,
+LIMITS = (Limit("continuous_current", "continuous current", "A", SCOPE_JOINT, None, 55, evaluate,
                 caution="continuous (RMS) current"),)
