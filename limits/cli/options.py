@@ -20,7 +20,8 @@ def add_check_options(p) -> None:
     """--rate, --duration, --margin, --friction, --supply-power, --regen-energy on parser ``p``."""
     p.add_argument("--rate", type=float, default=1000.0, metavar="HZ", help="controller / export rate [Hz] (default 1000)")
     p.add_argument("--duration", type=float, default=None, metavar="S",
-                   help="test duration for the thermal model [s], plan repeated (default: one plan period)")
+                   help="a finite test of S seconds, the plan repeated, for the winding temperature (default: the "
+                        "plan repeated for as long as the test runs: periodic steady state and time to limit)")
     p.add_argument("--margin", type=float, default=0.1, metavar="FRACTION",
                    help="'near' band below each limit as a fraction of it (default 0.1)")
     p.add_argument("--friction", type=float, default=None, metavar="MU", help="ground friction coefficient (default: robot file)")
