@@ -29,8 +29,8 @@ def register(subparsers) -> None:
     p.set_defaults(func=run)
 
 
-def summary_lines(plan, trajs, out: Path, rate_hz: float) -> list[str]:
-    """The terminal summary of one translation."""
+def summary_lines(plan, trajs, out: Path, rate_hz: float, warnings=()) -> list[str]:
+    """The terminal summary of one translation (``warnings``: what plan and robot disagree on)."""
     from legbridge.mapping.joint_trajectory import FLAG_NAMES
 
     n = sum(t.n_samples for t in trajs)
@@ -38,6 +38,7 @@ def summary_lines(plan, trajs, out: Path, rate_hz: float) -> list[str]:
     lines = [f"plan {plan.path}: {len(trajs)} case(s), {n} samples at {rate_hz:g} Hz, {flagged} flagged sample(s)"]
     if plan.scaling is not None:
         lines.append(f"  {plan.scaling.describe()}")
+    lines.extend(f"  Warning: {w}" for w in warnings)
     from legbridge.mapping.readers.phases import stance_events
 
     def times(a) -> str:
@@ -69,7 +70,7 @@ def run(args) -> int:
     (out,) = check_outputs([args.output], inputs=[args.plan, robot_path], force=args.force)
     prepared = prepare(args.plan, robot_path, rate_hz=rate, cases=args.case)
     write_targets(prepared.trajectories, out, plan=prepared.plan, robot=prepared.robot, rate_hz=rate, force=args.force)
-    print("\n".join(summary_lines(prepared.plan, prepared.trajectories, out, rate)))
+    print("\n".join(summary_lines(prepared.plan, prepared.trajectories, out, rate, prepared.warnings)))
     print()
     print("\n".join(caution_lines()))
     return 0
