@@ -253,7 +253,7 @@ def _display(periods, amb, period: float, dt: float, m: int | None, ttl: dict):
         horizon = max(horizon, 1.2 * max(hits) / period if hits else 0.0, 1.0)
         j_end = int(math.ceil(horizon))
     js = np.unique(np.linspace(0, j_end, min(DISPLAY_POINTS, j_end + 1)).round().astype(int))
-    time = js * period
+    time = js * period if m is None else np.minimum(js * period, m * dt)  # a finite test ends with its last sample
     temps = np.empty((js.size, len(periods)))
     for c, per in enumerate(periods):
         if per is None:
