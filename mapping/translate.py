@@ -70,6 +70,27 @@ def _augment(jac: np.ndarray) -> np.ndarray:
     return np.concatenate([jac, ones], axis=1)
 
 
+def _planar_chain_or_none(leg: LegModel):
+    """mapping.ik.planar_chain(leg) when the model is exactly that chain (closed-form kinematics), else None."""
+    from legbridge.robots.errors import LegbridgeError
+
+    from .ik import planar_chain
+
+    try:
+        chain = planar_chain(leg)
+    except LegbridgeError:
+        return None
+    return chain if chain.exact else None
+
+
+def _parent_rotation0(leg: LegModel) -> np.ndarray:
+    """World rotation (3, 3) of the foot's parent joint with every leg joint at 0 (base at rest)."""
+    model = leg.model
+    data = model.createData()
+    pin.framesForwardKinematics(model, data, pin.neutral(model))
+    return data.oMi[model.frames[leg.foot_frame_id].parentJoint].rotation.copy()
+
+
 def _general_kinematics(leg: LegModel, q: np.ndarray):
     """Per-sample Pinocchio foot Jacobian (x, z rows, leg columns) and parent-joint rotation."""
     model = leg.model
@@ -129,7 +150,12 @@ def translate_resampled(rs: ResampledCase, robot: Robot, leg: LegModel, *, name:
     else:
         sol = dls_ik(leg, r, knee=robot.knee, foot_pitch_rad=robot.foot_pitch_rad)
         q, flags = sol.q, sol.flags.copy()
-        jac, rot = _general_kinematics(leg, q)
+        chain = _planar_chain_or_none(leg)
+        if chain is not None:  # a planar chain with offsets: its Jacobian in closed form, vectorised
+            jac = chain.jacobian(q)
+            rot = rotation_y(q.sum(axis=1)) @ _parent_rotation0(leg)
+        else:
+            jac, rot = _general_kinematics(leg, q)
 
     a_mat = _augment(jac) if nj == 3 else jac
     pad = np.zeros((n, a_mat.shape[1] - 2))
@@ -137,7 +163,11 @@ def translate_resampled(rs: ResampledCase, robot: Robot, leg: LegModel, *, name:
     flags |= np.where(det < SINGULAR_TOL, FLAG_SINGULAR, 0)
     singular = (flags & FLAG_SINGULAR) != 0
     qd = solve_rates(a_mat, np.hstack([rd, pad]), singular, lengths[0])
-    jdq = chain_jdot_qd(q, qd, lengths) if straight else _general_jdot_qd(leg, q, qd)
+    if straight:
+        jdq = chain_jdot_qd(q, qd, lengths)
+    else:
+        chain = _planar_chain_or_none(leg)
+        jdq = chain.jdot_qd(q, qd) if chain is not None else _general_jdot_qd(leg, q, qd)
     qdd = solve_rates(a_mat, np.hstack([rdd - jdq, pad]), singular, lengths[0])
 
     # ground force (stance only) and base motion

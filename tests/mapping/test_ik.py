@@ -466,3 +466,22 @@ def test_wrap_angle_half_open_interval():
 def test_unknown_knee_branch_is_a_legbridge_error(urdf_offset_leg):
     with pytest.raises(LegbridgeError, match="knee"):
         dls_ik(urdf_offset_leg[1], np.array([[0.0, -0.6]]), knee="sideways")
+
+
+def test_translate_uses_the_closed_form_kinematics_of_an_offset_chain(urdf_offset_leg):
+    # Reference: Pinocchio's frame Jacobian (LOCAL_WORLD_ALIGNED), the classical acceleration at
+    # qdd = 0 and the parent joint's rotation, one sample at a time (translate's general path)
+    import importlib
+
+    tr_mod = importlib.import_module("legbridge.mapping.translate")  # the module (the package exports a function of that name)
+
+    _, leg = urdf_offset_leg
+    chain = tr_mod._planar_chain_or_none(leg)
+    assert chain is not None
+    rng = np.random.default_rng(11)
+    q = np.column_stack([rng.uniform(-0.6, 0.6, 40), rng.uniform(-1.8, -0.2, 40)])
+    qd = rng.normal(0, 3, (40, 2))
+    jac_ref, rot_ref = tr_mod._general_kinematics(leg, q)
+    np.testing.assert_allclose(chain.jacobian(q), jac_ref, atol=1e-12)
+    np.testing.assert_allclose(tr_mod.rotation_y(q.sum(1)) @ tr_mod._parent_rotation0(leg), rot_ref, atol=1e-12)
+    np.testing.assert_allclose(chain.jdot_qd(q, qd), tr_mod._general_jdot_qd(leg, q, qd), atol=1e-10)
