@@ -51,13 +51,24 @@ def add_ground_offsets(p, help_text: str) -> None:
         p.add_argument(old, dest="ground_offsets", default=None, help=argparse.SUPPRESS)
 
 
-def settings_from_args(args):
-    """CheckSettings from the shared options (CheckSettings validates the values)."""
-    from legbridge.limits.checks.results import CheckSettings
+# CheckSettings field -> the option that sets it (messages name what the user typed)
+OPTION_OF = {"rate_hz": "--rate", "duration_s": "--duration", "margin": "--margin", "friction": "--friction",
+             "supply_power_w": "--supply-power", "regen_energy_j": "--regen-energy",
+             "max_flight_pitch_rad": "--max-flight-pitch"}
 
-    return CheckSettings(rate_hz=args.rate, duration_s=args.duration, margin=args.margin, friction=args.friction,
-                         supply_power_w=args.supply_power, regen_energy_j=args.regen_energy,
-                         max_flight_pitch_rad=args.max_flight_pitch)
+
+def settings_from_args(args):
+    """CheckSettings from the shared options (CheckSettings validates the values; a refusal names the
+    option)."""
+    from legbridge.limits.checks.results import CheckSettings
+    from legbridge.robots.errors import CheckSettingsError
+
+    try:
+        return CheckSettings(rate_hz=args.rate, duration_s=args.duration, margin=args.margin, friction=args.friction,
+                             supply_power_w=args.supply_power, regen_energy_j=args.regen_energy,
+                             max_flight_pitch_rad=args.max_flight_pitch)
+    except CheckSettingsError as exc:
+        raise CheckSettingsError(key=OPTION_OF.get(exc.key, exc.key), expected=exc.expected, found=exc.found) from exc
 
 
 def offsets_from_args(args):
