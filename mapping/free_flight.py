@@ -75,7 +75,6 @@ def free_flight_base(leg: LegModel, time_s, q, qd, qdd, base_q, base_v, base_a, 
     bidx, jidx = np.asarray(leg.base_v_index), np.asarray(leg.v_index)
     qfull = pin.neutral(model)
     vfull = np.zeros(model.nv)
-    afull = np.zeros(model.nv)
 
     def load(k):
         qfull[leg.base_q_index] = bq[k]
@@ -100,7 +99,6 @@ def free_flight_base(leg: LegModel, time_s, q, qd, qdd, base_q, base_v, base_a, 
             pin.computeCentroidalMapTimeVariation(model, data, qfull, vfull)
             dag_v = (data.dAg @ vfull)[_ROWS]
             ba[k] = _solve3(ag[:, bidx], dh_target - ag[:, jidx] @ qdd[k] - dag_v)
-    del afull
     return bq, bv, ba
 
 

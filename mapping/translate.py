@@ -150,7 +150,7 @@ def translate_resampled(rs: ResampledCase, robot: Robot, leg: LegModel, *, name:
     else:
         sol = dls_ik(leg, r, knee=robot.knee, foot_pitch_rad=robot.foot_pitch_rad)
         q, flags = sol.q, sol.flags.copy()
-        chain = _planar_chain_or_none(leg)
+        chain = _planar_chain_or_none(leg)  # read once, used again for J_dot qd below
         if chain is not None:  # a planar chain with offsets: its Jacobian in closed form, vectorised
             jac = chain.jacobian(q)
             rot = rotation_y(q.sum(axis=1)) @ _parent_rotation0(leg)
@@ -166,7 +166,6 @@ def translate_resampled(rs: ResampledCase, robot: Robot, leg: LegModel, *, name:
     if straight:
         jdq = chain_jdot_qd(q, qd, lengths)
     else:
-        chain = _planar_chain_or_none(leg)
         jdq = chain.jdot_qd(q, qd) if chain is not None else _general_jdot_qd(leg, q, qd)
     qdd = solve_rates(a_mat, np.hstack([rdd - jdq, pad]), singular, lengths[0])
 

@@ -69,12 +69,14 @@ def joint_inertia_diag_kgm2(robot, q) -> np.ndarray:
     return out
 
 
-def accel_limits(traj, robot, settings) -> np.ndarray:
-    """Acceleration bound per sample and joint [rad/s^2], shape (n, j) (see module docstring)."""
+def accel_limits(traj, robot, settings, inertia_diag=None) -> np.ndarray:
+    """Acceleration bound per sample and joint [rad/s^2], shape (n, j) (see module docstring);
+    ``inertia_diag`` (n, j): M_ii(q) when the caller has the mass matrices already."""
     if settings.max_joint_accel_rad_s2 is not None:
         return np.full(traj.q.shape, float(settings.max_joint_accel_rad_s2))
     joints = [robot.joint(n) for n in traj.joint_names]
-    m = joint_inertia_diag_kgm2(robot, traj.q) + np.array([reflected_inertia_kgm2(j.actuator) for j in joints])
+    diag = joint_inertia_diag_kgm2(robot, traj.q) if inertia_diag is None else np.asarray(inertia_diag, dtype=float)
+    m = diag + np.array([reflected_inertia_kgm2(j.actuator) for j in joints])
     return np.array([max_joint_torque(j).value for j in joints]) / m
 
 
@@ -187,12 +189,12 @@ def nearest_motion(traj, robot, settings, solver: str = "CLARABEL"):
     lower = np.array([j.lower_rad for j in joints])
     upper = np.array([j.upper_rad for j in joints])
     vmax = np.array([max_joint_speed(j).value for j in joints])
-    amax = accel_limits(traj, robot, settings)
     dt = 1.0 / float(traj.rate_hz)
     q = np.asarray(traj.q, dtype=float)
     n, nj = q.shape
     leg = cached_leg_model(robot)
     mass = joint_mass_matrices(leg, q, traj.base_pitch_rad)
+    amax = accel_limits(traj, robot, settings, np.diagonal(mass, axis1=1, axis2=2))  # one CRBA pass, not two
     t_lo, t_hi = torque_bounds(traj, robot)
     torque = (mass, np.asarray(traj.tau, dtype=float), t_lo, t_hi)
     prob = build(q, lower, upper, vmax, amax, dt, torque=torque, contact=(traj.jacobian, traj.stance))
