@@ -7,7 +7,7 @@ Sign conventions as in the README, "Units and conventions" (joint torque: applie
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, fields, replace
 
 import numpy as np
 
@@ -47,6 +47,13 @@ class JointTrajectory:
         (mapping.free_flight). None when built by hand.
     pieces (n,) int: the interpolation piece of each sample (mapping.resample.ResampledCase.pieces):
         rates of the spring torque are never taken across a change of piece. None when built by hand.
+    plan_time_s (m,): the plan's own sample times, the knots of the spring torque's rates
+        (mapping.motor_side.phase_rates); None when built by hand.
+    phase_ends: a JointTrajectory (p samples) of the earlier phase's left limit at every phase change
+        (mapping.resample, "Phase ends"), translated with the grid, or None. The checks judge each
+        instantaneous limit at these instants too and fold the worse of the two into the grid
+        sample before (phase_end_index (p,) int): peaks do not depend on the export rate. Never
+        exported.
     """
 
     case: str
@@ -76,6 +83,9 @@ class JointTrajectory:
     base_velocity: np.ndarray | None = None
     base_accel: np.ndarray | None = None
     pieces: np.ndarray | None = None
+    plan_time_s: np.ndarray | None = None
+    phase_ends: "JointTrajectory | None" = None
+    phase_end_index: np.ndarray | None = None
 
     @property
     def n_samples(self) -> int:
@@ -84,6 +94,19 @@ class JointTrajectory:
     @property
     def n_joints(self) -> int:
         return len(self.joint_names)
+
+    def rows(self, keep) -> "JointTrajectory":
+        """The trajectory at the samples ``keep`` (bool mask or indices), without phase ends."""
+        n = self.n_samples
+        out = {}
+        for f in fields(self):
+            v = getattr(self, f.name)
+            if (isinstance(v, np.ndarray) and v.ndim >= 1 and v.shape[0] == n
+                    and f.name not in ("phase_end_index", "plan_time_s")):
+                v = np.array(v[keep], copy=True)
+                v.setflags(write=False)
+                out[f.name] = v
+        return replace(self, phase_ends=None, phase_end_index=None, **out)
 
     def motor_side_rates(self, i: int, gear_ratio: float) -> tuple[np.ndarray, np.ndarray]:
         """(speed [rad/s], acceleration [rad/s^2]) of joint i's motor side in joint units (the motor shaft

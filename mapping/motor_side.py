@@ -8,8 +8,9 @@ tau = k (theta_m - q), positive about +y like the joint torque. Hence
 
 and the motor shaft angle is motor_position_rad = N theta_m (N: gear ratio). The spring damping is
 neglected in theta_m. The torque through a spring is a state: it cannot step. Within each phase
-(a run of stance or of flight samples) tau is smooth, and its rate and acceleration come from one
-cubic spline through that phase's samples (scipy.interpolate.CubicSpline, not-a-knot): the motor side
+(a run of stance or of flight samples, a gap between them, a piece between kinks) tau is smooth, and
+its rate and acceleration come from one C2 cubic spline per run, fitted by least squares with the
+plan's own sample times as knots (:func:`phase_rates`; so they do not depend on the export rate): the motor side
 moves at theta_m_dot = qd + tau_dot / k and accelerates at theta_m_ddot = qdd + tau_ddot / k. Nothing
 is differenced across a touchdown or liftoff, where a spring-mass plan's force (and so the torque it
 asks of the joint) may jump: those jumps are reported by :func:`spring_torque_steps` as what they
@@ -76,15 +77,52 @@ def _run_spline(t: np.ndarray, y: np.ndarray):
     return lambda x, nu=0: np.full(np.shape(x), y[0] if nu == 0 else 0.0)
 
 
-def phase_rates(time_s, values, stance) -> tuple[np.ndarray, np.ndarray]:
+def _run_lsq_spline(t: np.ndarray, y: np.ndarray, knots: np.ndarray):
+    """A C2 cubic spline with interior knots at the plan's own sample times inside the run, fitted to
+    the run's samples by least squares (scipy.interpolate.make_lsq_spline), or None when the run is
+    too short for one. Knots closer than two sample intervals are thinned (every knot interval keeps
+    two samples, so the fit is determined: Schoenberg-Whitney)."""
+    from scipy.interpolate import make_lsq_spline
+
+    if t.size < 6:
+        return None
+    h = float(np.median(np.diff(t)))
+    inner = knots[(knots > t[0] + 1.5 * h) & (knots < t[-1] - 1.5 * h)]
+    kept, last = [], t[0]
+    for u in inner.tolist():  # knots of one run: tens, not samples
+        if u - last >= 2.0 * h - 1e-9 * h:
+            kept.append(u)
+            last = u
+    if kept and t[-1] - kept[-1] < 2.0 * h - 1e-9 * h:
+        kept.pop()
+    full = np.concatenate([[t[0]] * 4, kept, [t[-1]] * 4])
+    try:
+        return make_lsq_spline(t, y, full, k=3)
+    except (ValueError, np.linalg.LinAlgError):
+        return None
+
+
+def phase_rates(time_s, values, stance, knots=None) -> tuple[np.ndarray, np.ndarray]:
     """(rate, second rate) of a sampled quantity, from one spline per run of ``stance`` (phase flags or
-    piece labels; never across an edge)."""
+    piece labels; never across an edge).
+
+    ``knots``: the plan's own sample times. The torque through a series spring comes from inverse
+    dynamics on the plan's C2 interpolant, so it has kinks of slope at every plan sample, and its
+    second rate (the motor side's acceleration) spikes there; a spline run through every export
+    sample resolves those spikes the finer the export rate (motor acceleration, hence the rotor's
+    torque and the current, grew with the rate). With ``knots`` each run gets a least-squares C2
+    spline whose knots are the plan's sample times (the plan's own resolution), whatever the export
+    rate; without, or for a run too short for one, the spline through the samples.
+    """
     t = np.asarray(time_s, dtype=float)
     y = np.asarray(values, dtype=float)
+    kn = None if knots is None else np.sort(np.asarray(knots, dtype=float))
     d1 = np.zeros_like(y)
     d2 = np.zeros_like(y)
     for a, b in phase_runs(stance):  # one spline per phase (tens per plan), not per sample
-        f = _run_spline(t[a:b], y[a:b])
+        f = _run_lsq_spline(t[a:b], y[a:b], kn) if kn is not None else None
+        if f is None:
+            f = _run_spline(t[a:b], y[a:b])
         d1[a:b] = f(t[a:b], 1)
         d2[a:b] = f(t[a:b], 2)
     return d1, d2
@@ -137,11 +175,12 @@ def spring_torque_steps(robot: Robot, joint_names, time_s, tau, stance) -> tuple
 
 
 def motor_side(robot: Robot, time_s: np.ndarray, q: np.ndarray, qd: np.ndarray, qdd: np.ndarray,
-               tau: np.ndarray, stance=None, pieces=None) -> MotorSide:
+               tau: np.ndarray, stance=None, pieces=None, knots=None) -> MotorSide:
     """Motor-side quantities for joint targets q, qd, qdd (n, j) [rad, rad/s, rad/s^2] and tau (n, j)
     [N m]. ``pieces`` (n,) labels the runs whose spring-torque rates come from one spline each
     (mapping.resample.ResampledCase.pieces: each phase, and each gap between phases, where the force
-    is a straight line); default the phases of ``stance`` (n,) bool, or one run."""
+    is a straight line); default the phases of ``stance`` (n,) bool, or one run. ``knots``: the plan's
+    sample times, the knots of the spring torque's splines (phase_rates)."""
     n = q.shape[0]
     stance = np.ones(n, bool) if stance is None else np.asarray(stance, dtype=bool)
     pieces = stance if pieces is None else np.asarray(pieces)
@@ -151,7 +190,7 @@ def motor_side(robot: Robot, time_s: np.ndarray, q: np.ndarray, qd: np.ndarray, 
         theta, theta_d, theta_dd = q[:, j], qd[:, j], qdd[:, j]
         if joint.spring is not None and n >= 2:
             k = joint.spring.stiffness_nm_per_rad
-            tau_d, tau_dd = phase_rates(time_s, tau[:, j], pieces)
+            tau_d, tau_dd = phase_rates(time_s, tau[:, j], pieces, knots)
             theta = theta + tau[:, j] / k
             theta_d = theta_d + tau_d / k
             theta_dd = theta_dd + tau_dd / k

@@ -28,6 +28,18 @@ flight before it. A segment of a single plan sample holds that sample's values w
 Grid samples that coincide with a plan sample (to within 1e-6 of the finer sample spacing, for
 rounding) take that sample's phase.
 
+Phase ends (peaks judged on the interpolant, whatever the export rate). Under the gap rule the earlier
+phase's motion runs until the first plan sample of the next phase, t_{i+1}; a quantity that grows
+towards touchdown (a swing's back-EMF) is largest at the gap's end, t_{i+1} approached from the left,
+an instant no uniform grid samples: a finer grid merely comes closer (a rigid hip's voltage read 9.23
+V at 500 Hz, 9.53 at 1 kHz and 9.76 at 4 kHz on the three-joint demo leg). With ``phase_ends=True``
+:func:`resample_case` therefore also evaluates the earlier phase's interpolant AT t_{i+1} (its left
+limit) for every gap, inserted into the time array just before the grid samples at or after t_{i+1},
+together with the gap's start t_i (inserted after the grid samples at or before t_i), so that every
+gap is one interpolation piece with both its ends whatever the rate, and both are marked in
+``probe``. mapping.translate translates them with the grid and hands them to the checks as the
+trajectory's ``phase_ends``; the exported targets never contain them.
+
 Times [s], lengths [m], angles [rad], forces [N]; arrays shaped (n,).
 """
 
@@ -65,6 +77,8 @@ class ResampledCase:
     force is the straight line across the gap; quantities derived from the force change slope at
     the gap's ends, so their rates are taken per piece (mapping.motor_side)
     piece (n,) int: the running number of the interpolation piece (segments cut at kinks)
+    probe (n,) bool or None: the sample is a phase end (see the module docstring), not a grid sample
+    plan_time_s (m,): the plan's own sample times (the knots of rates taken later, mapping.motor_side)
     """
 
     time_s: np.ndarray
@@ -78,6 +92,8 @@ class ResampledCase:
     body_z: Channel | None
     in_gap: np.ndarray | None = None
     piece: np.ndarray | None = None
+    probe: np.ndarray | None = None
+    plan_time_s: np.ndarray | None = None
 
     @property
     def n_samples(self) -> int:
@@ -234,8 +250,19 @@ def gap_bridged_force(t: np.ndarray, f: np.ndarray, plan_stance: np.ndarray, tq:
     return np.where(stance, out, 0.0)
 
 
-def resample_case(case: ReducedTrajectory, rate_hz: float) -> ResampledCase:
-    """Resample one case to ``rate_hz`` [Hz], phase-aware (see the module docstring for the gap rule)."""
+def phase_end_times(t: np.ndarray, plan_stance: np.ndarray, t_grid: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(times, index of the last plan sample before each) of the phase ends within the grid: the first
+    plan sample of every phase that follows another, t_{i+1}, where the earlier phase ends."""
+    ps = np.asarray(plan_stance, dtype=bool)
+    i = np.flatnonzero(ps[1:] != ps[:-1])
+    keep = (t[i + 1] > t_grid[0]) & (t[i + 1] <= t_grid[-1] + 1e-12)
+    return t[i + 1][keep], i[keep]
+
+
+def resample_case(case: ReducedTrajectory, rate_hz: float, *, phase_ends: bool = False) -> ResampledCase:
+    """Resample one case to ``rate_hz`` [Hz], phase-aware (see the module docstring for the gap rule);
+    with ``phase_ends`` the earlier phase's left limit at every phase change is inserted as well
+    (marked in ``probe``)."""
     if not np.isfinite(rate_hz) or rate_hz <= 0.0:
         raise ResampleError("bad controller rate", key="rate_hz", expected="a positive finite rate in Hz", found=rate_hz)
     t = np.asarray(case.time_s, dtype=float)
@@ -247,8 +274,36 @@ def resample_case(case: ReducedTrajectory, rate_hz: float) -> ResampledCase:
         raise ResampleError(f"case '{case.name}': time must increase", key="time_s", row=row,
                             expected=f"a time above {t[row - 1]:g} s", found=float(t[row]))
     bounds = segment_bounds(case.stance)
-    tq = time_grid(float(t[0]), float(t[-1]), rate_hz)
-    seg = assign_segments(t, bounds, tq)
+    grid = time_grid(float(t[0]), float(t[-1]), rate_hz)
+    seg = assign_segments(t, bounds, grid)
+    ps = np.asarray(case.stance, dtype=bool)
+    k = np.clip(np.searchsorted(t, grid, side="right") - 1, 0, t.shape[0] - 2)
+    in_gap = (ps[k] != ps[k + 1]) & (grid > t[k])
+    probe = np.zeros(grid.shape[0], dtype=bool)
+    tq = grid
+    start_of = end_of = np.zeros(0, dtype=int)
+    kind = np.zeros(grid.shape[0], dtype=int)  # 0 grid sample, 1 a gap's start, 2 a gap's end
+    if phase_ends:
+        t_end, i_end = phase_end_times(t, ps, grid)
+        if t_end.size:
+            # each gap (t_i, t_{i+1}) as one piece with both its ends: t_i (the gap's start, where its
+            # rates begin) and t_{i+1} (the earlier phase's left limit), both in the earlier segment
+            # (that of plan sample i); the start after the grid samples at or before t_i, the end
+            # before those at or after t_{i+1}
+            seg_of_plan = np.repeat(np.arange(len(bounds)), [b - a for a, b in bounds])
+            tol = 1e-9 * (t_end - t[i_end])
+            pos_s = np.searchsorted(grid, t[i_end] + tol, side="right")
+            pos_e = np.searchsorted(grid, t_end - tol, side="left")
+            key = np.concatenate([np.arange(grid.shape[0]) + 0.5, pos_s + 0.0, pos_e + 0.25])
+            order = np.argsort(key, kind="stable")
+            m = i_end.size
+            kind = np.concatenate([np.zeros(grid.shape[0], int), np.ones(m, int), np.full(m, 2)])[order]
+            tq = np.concatenate([grid, t[i_end], t_end])[order]
+            seg = np.concatenate([seg, seg_of_plan[i_end], seg_of_plan[i_end]])[order]
+            in_gap = np.concatenate([in_gap, np.ones(2 * m, bool)])[order]
+            probe = kind > 0
+            which = np.concatenate([np.full(grid.shape[0], -1), i_end, i_end])[order]
+            start_of, end_of = which[kind == 1], which[kind == 2]
     stance_seg = np.array([bool(case.stance[a]) for a, _ in bounds])
     stance = stance_seg[seg]
 
@@ -277,12 +332,17 @@ def resample_case(case: ReducedTrajectory, rate_hz: float) -> ResampledCase:
         iv = col["v" + axis]
         return Channel(frozen_array(val[:, col["b" + axis]]), frozen_array(val[:, iv]), frozen_array(d1[:, iv]))
 
-    fx, fz = (gap_bridged_force(t, np.asarray(f, dtype=float), case.stance, tq, val[:, col[c]], stance)
-              for f, c in ((case.force_x_n, "fx"), (case.force_z_n, "fz")))
+    forces = []
+    for f, c in ((case.force_x_n, "fx"), (case.force_z_n, "fz")):
+        f = np.asarray(f, dtype=float)
+        out = gap_bridged_force(t, f, case.stance, tq, val[:, col[c]], stance)
+        if start_of.size:  # a gap's ends: the bridge's end values (the earlier phase is stance) or 0
+            starts, ends = np.flatnonzero(kind == 1), np.flatnonzero(kind == 2)
+            out[starts] = np.where(stance[starts], f[start_of], 0.0)
+            out[ends] = np.where(stance[ends], f[end_of + 1], 0.0)
+        forces.append(out)
+    fx, fz = forces
     fz = np.maximum(fz, 0.0)  # contact cannot pull: a spline dipping below zero near liftoff is the interpolant's
-    k = np.clip(np.searchsorted(t, tq, side="right") - 1, 0, t.shape[0] - 2)
-    ps = np.asarray(case.stance, dtype=bool)
-    in_gap = (ps[k] != ps[k + 1]) & (tq > t[k])
     return ResampledCase(
         time_s=frozen_array(tq),
         stance=frozen_array(stance, dtype=bool),
@@ -295,4 +355,6 @@ def resample_case(case: ReducedTrajectory, rate_hz: float) -> ResampledCase:
         body_z=body("z"),
         in_gap=frozen_array(in_gap, dtype=bool),
         piece=frozen_array(piece_label, dtype=int),
+        probe=frozen_array(probe, dtype=bool) if phase_ends else None,
+        plan_time_s=frozen_array(t),
     )

@@ -88,8 +88,8 @@ def with_joint_motion(traj, robot, q_new, leg_model: LegModel | None = None):
         tau = np.asarray(traj.tau, dtype=float) + np.einsum("kij,kj->ki", m, d2)
         residual = np.asarray(traj.base_residual, dtype=float)
     tau_free = tau + np.einsum("nij,ni->nj", np.asarray(traj.jacobian, dtype=float), force)
-    ms = motor_side(robot, traj.time_s, q_new, qd, qdd, tau, traj.stance, traj.pieces)
-    return replace(traj, q=frozen_array(q_new), qd=frozen_array(qd), qdd=frozen_array(qdd), tau=frozen_array(tau),
+    ms = motor_side(robot, traj.time_s, q_new, qd, qdd, tau, traj.stance, traj.pieces, traj.plan_time_s)
+    return replace(traj, phase_ends=None, phase_end_index=None, q=frozen_array(q_new), qd=frozen_array(qd), qdd=frozen_array(qdd), tau=frozen_array(tau),
                    tau_free=frozen_array(tau_free), base_residual=frozen_array(residual),
                    motor_position_rad=ms.motor_position_rad, motor_speed_rad_s=ms.motor_speed_rad_s,
                    motor_torque_nm=ms.motor_torque_nm, current_a=ms.current_a, voltage_v=ms.voltage_v,

@@ -24,6 +24,8 @@ least squares and Pinocchio Jacobians per sample.
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 import numpy as np
 import pinocchio as pin
 
@@ -193,7 +195,7 @@ def translate_resampled(rs: ResampledCase, robot: Robot, leg: LegModel, *, name:
     dyn = inverse_dynamics(leg, qf, vf, af, foot_force_local(leg, rot, force))
     tau = dyn.tau
     tau_free = tau + np.einsum("nij,ni->nj", jac, force)
-    ms = motor_side(robot, rs.time_s, q, qd, qdd, tau, stance, rs.pieces)
+    ms = motor_side(robot, rs.time_s, q, qd, qdd, tau, stance, rs.pieces, rs.plan_time_s)
 
     finite = np.isfinite(q).all(1) & np.isfinite(qd).all(1) & np.isfinite(qdd).all(1) & np.isfinite(tau).all(1)
     finite &= np.isfinite(ms.current_a).all(1) & np.isfinite(ms.voltage_v).all(1)
@@ -227,6 +229,7 @@ def translate_resampled(rs: ResampledCase, robot: Robot, leg: LegModel, *, name:
         base_velocity=frozen_array(base_v),
         base_accel=frozen_array(base_a),
         pieces=frozen_array(rs.pieces, dtype=int),
+        plan_time_s=rs.plan_time_s,
     )
 
 
@@ -239,8 +242,17 @@ def translate(case: ReducedTrajectory, robot: Robot, *, rate_hz: float = 1000.0,
     (a LegbridgeError, ValueError) for a case that cannot be resampled.
     """
     leg = leg_model if leg_model is not None else build_leg_model(robot)
-    rs = resample_case(case, rate_hz)
-    return translate_resampled(rs, robot, leg, name=case.name, ground_height_m=case.ground_height_m, rate_hz=rate_hz)
+    rs = resample_case(case, rate_hz, phase_ends=True)
+    full = translate_resampled(rs, robot, leg, name=case.name, ground_height_m=case.ground_height_m, rate_hz=rate_hz)
+    probe = np.asarray(rs.probe, dtype=bool)
+    if not probe.any():
+        return full
+    # the phase ends (mapping.resample) leave the grid; each folds into the grid sample before it
+    at = np.flatnonzero(probe)
+    before = at - np.arange(at.size) - 1
+    index = np.maximum(before, 0)
+    index.setflags(write=False)
+    return replace(full.rows(~probe), phase_ends=full.rows(probe), phase_end_index=index)
 
 
 def translate_plan(plan: Plan, robot: Robot, *, rate_hz: float = 1000.0,

@@ -10,7 +10,7 @@ Every trace is shape (n_samples,), SI units, read-only.
 from __future__ import annotations
 
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -61,6 +61,8 @@ class Limit:
     panel: report panel of its flagged spans (PANEL_*), None for tables only
     order: position in every listing (smaller first); caution: how the caution text names it
     evaluate(ctx) -> tuple of LimitTrace (empty when the limit is not asked for, e.g. no supply cap)
+    instantaneous: each sample is judged on its own (a value at an instant, not a history); such
+        limits are also judged at the phase ends (mapping.resample, "Phase ends"): see fold_phase_ends
     """
 
     name: str
@@ -71,6 +73,7 @@ class Limit:
     order: int
     evaluate: Callable
     caution: str = ""
+    instantaneous: bool = True
 
     def __post_init__(self):
         if self.scope not in SCOPES or self.panel not in PANELS:
@@ -120,3 +123,31 @@ def trace(limit: str, joint: str, unit: str, value, allowed, utilisation, *, nea
     value = np.asarray(value, dtype=float)
     return LimitTrace(limit, joint, unit, frozen(value), frozen(np.broadcast_to(allowed, value.shape)),
                       frozen(np.broadcast_to(utilisation, value.shape)), near_from, source)
+
+
+def fold_phase_ends(grid: tuple[LimitTrace, ...], ends: tuple[LimitTrace, ...], index) -> tuple[LimitTrace, ...]:
+    """Grid traces with each phase end's sample folded into the grid sample before it (``index``)
+    where the phase end's utilisation is the higher (NaN counts as higher: fail closed). Traces are
+    matched by (limit, joint); a grid trace without a phase-end twin is returned as it is."""
+    by_key = {(t.limit, t.joint): t for t in ends}
+    index = np.asarray(index, dtype=int)
+    out = []
+    for g in grid:
+        e = by_key.get((g.limit, g.joint))
+        if e is None or index.size == 0:
+            out.append(g)
+            continue
+        u_g = np.asarray(g.utilisation, dtype=float)[index]
+        u_e = np.asarray(e.utilisation, dtype=float)
+        worse = (u_e > u_g) | (np.isnan(u_e) & ~np.isnan(u_g))
+        if not worse.any():
+            out.append(g)
+            continue
+        arrays = []
+        for name in ("value", "allowed", "utilisation"):
+            a = np.array(getattr(g, name), dtype=float, copy=True)
+            a[index[worse]] = np.asarray(getattr(e, name), dtype=float)[worse]
+            a.setflags(write=False)
+            arrays.append(a)
+        out.append(replace(g, value=arrays[0], allowed=arrays[1], utilisation=arrays[2]))
+    return tuple(out)

@@ -18,7 +18,7 @@ from legbridge.mapping.motor_side import spring_torque_steps
 
 from legbridge.limits import checks as registry
 from . import thermal as thermal_model
-from .base import CheckContext
+from .base import CheckContext, fold_phase_ends
 from .regen_energy import step_regen_energy_j
 from .results import CaseReview, CheckSettings
 from .segments import trace_segments
@@ -56,6 +56,11 @@ def check_case(traj, robot, settings: CheckSettings | None = None) -> CaseReview
     th = thermal_model.simulate(traj, robot, settings.duration_s)
     ctx = CheckContext(traj, robot, settings, mu, th)
     traces = tuple(t for lim in registry.all_limits() for t in lim.evaluate(ctx))
+    ends = getattr(traj, "phase_ends", None)
+    if ends is not None and ends.n_samples:  # peaks judged at each phase's end too (mapping.resample)
+        end_ctx = CheckContext(ends, robot, settings, mu, None)
+        end_traces = tuple(t for lim in registry.all_limits() if lim.instantaneous for t in lim.evaluate(end_ctx))
+        traces = fold_phase_ends(traces, end_traces, traj.phase_end_index)
     findings = _flag_findings(traj)
     segments = []
     for tr in traces:

@@ -28,4 +28,4 @@ def evaluate(ctx: CheckContext):
 
 
 LIMITS = (Limit("continuous_current", "continuous current", "A", SCOPE_JOINT, None, 55, evaluate,
-                caution="continuous (RMS) current"),)
+                caution="continuous (RMS) current", instantaneous=False),)

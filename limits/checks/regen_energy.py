@@ -45,4 +45,5 @@ def evaluate(ctx: CheckContext):
     return (trace("regen_energy", "", "J", run, cap, ratio(run, cap), source="settings.regen_energy_j"),)
 
 
-LIMITS = (Limit("regen_energy", "regenerated energy", "J", SCOPE_ROBOT, None, 80, evaluate, caution="regenerated energy"),)
+LIMITS = (Limit("regen_energy", "regenerated energy", "J", SCOPE_ROBOT, None, 80, evaluate, caution="regenerated energy",
+                instantaneous=False),)

@@ -24,4 +24,5 @@ def evaluate(ctx: CheckContext):
     return tuple(out)
 
 
-LIMITS = (Limit("winding_temperature", "winding temperature", "K", SCOPE_JOINT, PANEL_TORQUE, 60, evaluate, caution="winding temperature"),)
+LIMITS = (Limit("winding_temperature", "winding temperature", "K", SCOPE_JOINT, PANEL_TORQUE, 60, evaluate, caution="winding temperature",
+                instantaneous=False),)
