@@ -40,7 +40,7 @@ def rotation_y(pitch) -> np.ndarray:
     return np.stack([np.stack([c, z, s], -1), np.stack([z, o, z], -1), np.stack([-s, z, c], -1)], -2)
 
 
-def foot_force_local(leg: LegModel, joint_rotation: np.ndarray, force_xz: np.ndarray) -> np.ndarray:
+def foot_force_local(leg: LegModel, joint_rotation: np.ndarray, force_xz: np.ndarray, frame_id: int | None = None) -> np.ndarray:
     """Spatial force (linear, angular) (n, 6) in the foot's parent-joint frame for world forces (n, 2) [N].
 
     joint_rotation (n, 3, 3): world orientation of the foot's parent joint.
@@ -49,7 +49,7 @@ def foot_force_local(leg: LegModel, joint_rotation: np.ndarray, force_xz: np.nda
     f_world[:, 0] = force_xz[:, 0]
     f_world[:, 2] = force_xz[:, 1]
     f_local = np.einsum("nji,nj->ni", joint_rotation, f_world)  # R^T F
-    lever = leg.model.frames[leg.foot_frame_id].placement.translation
+    lever = leg.model.frames[leg.foot_frame_id if frame_id is None else frame_id].placement.translation
     m_local = np.cross(np.broadcast_to(lever, f_local.shape), f_local)
     return np.concatenate([f_local, m_local], axis=1)
 
@@ -57,13 +57,22 @@ def foot_force_local(leg: LegModel, joint_rotation: np.ndarray, force_xz: np.nda
 def inverse_dynamics(leg: LegModel, q_full: np.ndarray, v_full: np.ndarray, a_full: np.ndarray,
                      force_local: np.ndarray) -> DynamicsResult:
     """One rnea per sample with the foot force applied, reusing one Data and one force vector.
-
     q_full, v_full, a_full (n, nq / nv): configurations, velocities, accelerations of the whole
     model (base x, z, pitch and the leg joints); force_local (n, 6) from ``foot_force_local``.
     """
-    model = leg.model
+    return inverse_dynamics_feet(leg, q_full, v_full, a_full, [(leg.foot_frame_id, force_local)])
+
+
+def inverse_dynamics_feet(model_like, q_full: np.ndarray, v_full: np.ndarray, a_full: np.ndarray,
+                          feet: list) -> DynamicsResult:
+    """inverse_dynamics with a force at each of several feet: ``feet`` is a list of (frame id,
+    force_local (n, 6) from ``foot_force_local`` for that frame); model_like has .model, .v_index and
+    .base_v_index (a LegModel or a robots.biped_model.BipedModel)."""
+    model = model_like.model
     data = model.createData()
-    parent = model.frames[leg.foot_frame_id].parentJoint
+    parents = [model.frames[fid].parentJoint for fid, _ in feet]
+    if len(set(parents)) != len(parents):
+        raise ValueError("two feet on one joint: give their forces as one")
     fext = pin.StdVec_Force()
     for _ in range(model.njoints):
         fext.append(pin.Force.Zero())
@@ -71,7 +80,9 @@ def inverse_dynamics(leg: LegModel, q_full: np.ndarray, v_full: np.ndarray, a_fu
     out = np.empty((n, model.nv))
     rnea = pin.rnea
     Force = pin.Force
+    forces = [np.asarray(f, dtype=float) for _, f in feet]
     for i in range(n):
-        fext[parent] = Force(force_local[i])
+        for p, f in zip(parents, forces):
+            fext[p] = Force(f[i])
         out[i] = rnea(model, data, q_full[i], v_full[i], a_full[i], fext)
-    return DynamicsResult(out[:, leg.v_index], out[:, leg.base_v_index])
+    return DynamicsResult(out[:, model_like.v_index], out[:, model_like.base_v_index])

@@ -54,6 +54,12 @@ class JointTrajectory:
         instantaneous limit at these instants too and fold the worse of the two into the grid
         sample before (phase_end_index (p,) int): peaks do not depend on the export rate. Never
         exported.
+    legs: () for one leg; ('left', 'right') for a biped (mapping.biped), whose joints are then
+        '<leg>_<joint>'; gait: the gait in words (mapping.gait.Gait.describe)
+    leg_contact, leg_generated (n, legs) bool: the leg is a stance leg / its motion is a generated
+        swing (mapping.swing); leg_swing_profile (n, legs): the unit clearance profile
+        64 s^3 (1 - s)^3 over each generated swing (0 elsewhere); foot_height_m (n, legs): each foot above the case's ground [m], or None
+        (the plan gives no body height). All None for one leg.
     """
 
     case: str
@@ -86,6 +92,12 @@ class JointTrajectory:
     plan_time_s: np.ndarray | None = None
     phase_ends: "JointTrajectory | None" = None
     phase_end_index: np.ndarray | None = None
+    legs: tuple[str, ...] = ()
+    gait: str = ""
+    leg_contact: np.ndarray | None = None
+    leg_generated: np.ndarray | None = None
+    leg_swing_profile: np.ndarray | None = None
+    foot_height_m: np.ndarray | None = None
 
     @property
     def n_samples(self) -> int:
@@ -107,6 +119,18 @@ class JointTrajectory:
                 v.setflags(write=False)
                 out[f.name] = v
         return replace(self, phase_ends=None, phase_end_index=None, **out)
+
+    def split_phase_ends(self, probe) -> "JointTrajectory":
+        """This trajectory, translated with its phase ends (mapping.resample, marked in ``probe``),
+        split into the grid trajectory carrying the phase ends (each folding into the grid sample
+        before it)."""
+        probe = np.asarray(probe, dtype=bool)
+        if not probe.any():
+            return self
+        at = np.flatnonzero(probe)
+        index = np.maximum(at - np.arange(at.size) - 1, 0)
+        index.setflags(write=False)
+        return replace(self.rows(~probe), phase_ends=self.rows(probe), phase_end_index=index)
 
     def motor_side_rates(self, i: int, gear_ratio: float) -> tuple[np.ndarray, np.ndarray]:
         """(speed [rad/s], acceleration [rad/s^2]) of joint i's motor side in joint units (the motor shaft

@@ -40,7 +40,7 @@ from legbridge.robots.robot import Robot
 
 @dataclass(frozen=True, eq=False)
 class MotorSide:
-    """Arrays (n, j), one column per joint in robot.joints order (units in the module docstring)."""
+    """Arrays (n, j), one column per joint in robot.limb_joints order (units in the module docstring)."""
 
     motor_position_rad: np.ndarray
     motor_speed_rad_s: np.ndarray
@@ -185,7 +185,7 @@ def motor_side(robot: Robot, time_s: np.ndarray, q: np.ndarray, qd: np.ndarray, 
     stance = np.ones(n, bool) if stance is None else np.asarray(stance, dtype=bool)
     pieces = stance if pieces is None else np.asarray(pieces)
     cols = {k: np.empty_like(q) for k in MotorSide.__dataclass_fields__}
-    for j, joint in enumerate(robot.joints):
+    for j, joint in enumerate(robot.limb_joints):
         act = joint.actuator
         theta, theta_d, theta_dd = q[:, j], qd[:, j], qdd[:, j]
         if joint.spring is not None and n >= 2:

@@ -1,6 +1,6 @@
 """The one way from inputs to joint trajectories: read a plan against a robot and translate it.
 
-    prepare(plan, robot, *, rate_hz, cases=None, leg_model=None) -> Prepared
+    prepare(plan, robot, *, rate_hz, cases=None, leg_model=None, gait=None) -> Prepared
 
 Every command, the review and every sweep worker go through :func:`prepare`. ``plan`` is a Plan or a
 plan file path; ``robot`` a Robot (e.g. built in code), a robot description path or a bundled robot
@@ -86,11 +86,12 @@ def actuator_jumps(plan) -> tuple[str, ...]:
     return tuple(out)
 
 
-def prepare(plan, robot, *, rate_hz: float, cases=None, leg_model=None) -> Prepared:
+def prepare(plan, robot, *, rate_hz: float, cases=None, leg_model=None, gait=None) -> Prepared:
     """Read ``plan`` against ``robot``, refuse it when its units cannot be the robot's (a probable
     unit slip: millimetres, centimetres, degrees; mapping.readers.plausibility), and translate its
     cases (or the named ``cases``) at ``rate_hz``. Milder mismatches (leg length or mass far from the
-    robot's) come back as ``warnings``."""
+    robot's) come back as ``warnings``. ``gait``: for a biped robot, which leg takes each stance
+    (mapping.translate.resolve_gait)."""
     rate = check_rate(rate_hz)
     robot = as_robot(robot)
     plan = read_against(plan, robot)
@@ -101,7 +102,7 @@ def prepare(plan, robot, *, rate_hz: float, cases=None, leg_model=None) -> Prepa
 
     leg = leg_model if leg_model is not None else cached_leg_model(robot)
     warnings = tuple(check_units(plan, robot, leg_model=leg)) + actuator_jumps(plan)
-    trajs = translate_plan(plan, robot, rate_hz=rate, cases=cases, leg_model=leg)
+    trajs = translate_plan(plan, robot, rate_hz=rate, cases=cases, leg_model=leg, gait=gait)
     return Prepared(plan, robot, tuple(trajs), rate, tuple(warnings))
 
 

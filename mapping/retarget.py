@@ -19,9 +19,9 @@ from dataclasses import replace
 import numpy as np
 import pinocchio as pin
 
-from legbridge.robots.leg_model import LegModel, cached_leg_model
+from legbridge.robots.leg_model import LegModel
 
-from .dynamics import foot_force_local, inverse_dynamics
+from .dynamics import foot_force_local, inverse_dynamics_feet
 from .motor_side import motor_side
 from .plan import frozen_array
 
@@ -56,7 +56,9 @@ def joint_mass_matrices(leg: LegModel, q: np.ndarray, base_pitch=None) -> np.nda
 
 def with_joint_motion(traj, robot, q_new, leg_model: LegModel | None = None):
     """``traj`` with joint positions ``q_new`` (n, j) [rad] (see the module docstring)."""
-    leg = leg_model if leg_model is not None else cached_leg_model(robot)
+    from legbridge.robots.biped_model import dynamics_model
+
+    leg = leg_model if leg_model is not None else dynamics_model(robot)
     q_new = np.asarray(q_new, dtype=float)
     q0 = np.asarray(traj.q, dtype=float)
     dt = 1.0 / float(traj.rate_hz)
@@ -68,7 +70,13 @@ def with_joint_motion(traj, robot, q_new, leg_model: LegModel | None = None):
     if traj.base_accel is not None:
         model = leg.model
         data = model.createData()
-        parent = model.frames[leg.foot_frame_id].parentJoint
+        if getattr(traj, "legs", ()):  # a biped: each stance foot its share of the force
+            contact = np.asarray(traj.leg_contact, dtype=bool)
+            share = np.where(contact, 1.0 / np.maximum(contact.sum(axis=1, keepdims=True), 1), 0.0)
+            feet = [(leg.foot_frame_ids[name], share[:, k:k + 1] * force) for k, name in enumerate(traj.legs)]
+        else:
+            feet = [(leg.foot_frame_id, force)]
+        parents = [model.frames[fid].parentJoint for fid, _ in feet]
         qf = np.tile(pin.neutral(model), (n, 1))
         vf = np.zeros((n, model.nv))
         af = np.zeros((n, model.nv))
@@ -76,11 +84,13 @@ def with_joint_motion(traj, robot, q_new, leg_model: LegModel | None = None):
         vf[:, leg.base_v_index] = traj.base_velocity
         af[:, leg.base_v_index] = traj.base_accel
         qf[:, leg.q_index], vf[:, leg.v_index], af[:, leg.v_index] = q_new, qd, qdd
-        rot = np.empty((n, 3, 3))
-        for k in range(n):  # the foot force's frame at the new pose
+        rot = np.empty((len(feet), n, 3, 3))
+        for k in range(n):  # the foot forces' frames at the new pose
             pin.forwardKinematics(model, data, qf[k])
-            rot[k] = data.oMi[parent].rotation
-        dyn = inverse_dynamics(leg, qf, vf, af, foot_force_local(leg, rot, force))
+            for f, p in enumerate(parents):
+                rot[f, k] = data.oMi[p].rotation
+        dyn = inverse_dynamics_feet(leg, qf, vf, af, [(fid, foot_force_local(leg, rot[f], fw, frame_id=fid))
+                                                      for f, (fid, fw) in enumerate(feet)])
         tau = dyn.tau
         residual = dyn.base_residual
     else:

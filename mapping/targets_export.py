@@ -4,8 +4,10 @@ Layout: ONE file for all cases, with a ``case`` column naming the case of each r
 by case, in the order given, time increasing within a case). Columns:
 
     case, time_s, then per joint (robot order) <joint>_position_rad, <joint>_velocity_rad_s,
-    <joint>_torque_nm, <joint>_motor_position_rad, <joint>_current_a, and last ``flags``
-    (the mapping's FLAG_* bits, 0 = nothing flagged)
+    <joint>_torque_nm, <joint>_motor_position_rad, <joint>_current_a, for a biped then
+    <leg>_phase per leg (LEG_PHASES: 1 stance, 0 swing as the plan says, 2 generated swing), and
+    last ``flags`` (the mapping's FLAG_* bits, 0 = nothing flagged). A biped's joints are
+    <leg>_<joint> (left_hip_position_rad ...); the metadata names its gait.
 
 Metadata (CSV: the first line, ``# legbridge-targets `` followed by one JSON object; NPZ: the array
 ``metadata_json``; JSON: the ``metadata`` object): SHA-256 of the plan and robot files
@@ -44,14 +46,26 @@ JOINT_COLUMNS = (
     ("current_a", "current_a", "A (DC-equivalent)"),
 )
 
+LEG_PHASES = {0: "swing, the plan's motion (the flight that ends in this leg's touchdown)", 1: "stance",
+              2: "swing, generated (mapping.swing)"}
 
 
-def column_names(joint_names) -> list[str]:
+def column_names(joint_names, legs=()) -> list[str]:
     """The exported columns in order (see the module docstring)."""
     cols = ["case", "time_s"]
     for j in joint_names:
         cols.extend(f"{j}_{suffix}" for suffix, _, _ in JOINT_COLUMNS)
+    cols.extend(f"{leg}_phase" for leg in legs)
     return cols + ["flags"]
+
+
+def leg_phase_codes(traj: JointTrajectory) -> np.ndarray:
+    """(n, legs) LEG_PHASES code of each leg per sample; (n, 0) for one leg."""
+    if not traj.legs or traj.leg_contact is None:
+        return np.zeros((traj.n_samples, 0))
+    contact = np.asarray(traj.leg_contact, dtype=bool)
+    gen = np.asarray(traj.leg_generated, dtype=bool)
+    return np.where(contact, 1.0, np.where(gen, 2.0, 0.0))
 
 
 def flag_counts(traj: JointTrajectory) -> dict:
@@ -66,6 +80,7 @@ def _numeric_block(traj: JointTrajectory) -> np.ndarray:
     parts = [traj.time_s[:, None]]
     for j in range(traj.n_joints):
         parts.extend(getattr(traj, attr)[:, j:j + 1] for _, attr, _ in JOINT_COLUMNS)
+    parts.append(leg_phase_codes(traj))
     return np.hstack(parts)
 
 
@@ -73,8 +88,9 @@ def build_metadata(trajs, *, plan: Plan, robot: Robot, rate_hz: float, provenanc
     """The metadata dictionary written with the targets (provenance: legbridge.robots.version.provenance()
     unless given)."""
     units = {"time_s": "s", "flags": "bit flags (legbridge.mapping.joint_trajectory.FLAG_*)"}
-    for j in robot.joint_names:
+    for j in robot.limb_joint_names:
         units.update({f"{j}_{suffix}": unit for suffix, _, unit in JOINT_COLUMNS})
+    units.update({f"{leg}_phase": "code (metadata leg_phases)" for leg in robot.legs})
     meta = {
         "content": "legbridge joint targets",
         "tool_version": tool_version(),
@@ -83,9 +99,9 @@ def build_metadata(trajs, *, plan: Plan, robot: Robot, rate_hz: float, provenanc
         "robot": {"name": robot.name, "path": robot.source, "sha256": robot.sha256},
         "rate_hz": float(rate_hz),
         "layout": "one file, a 'case' column names the case of each row",
-        "columns": column_names(robot.joint_names),
+        "columns": column_names(robot.limb_joint_names, robot.legs),
         "units": units,
-        "joint_names": list(robot.joint_names),
+        "joint_names": list(robot.limb_joint_names),
         "cases": [t.case for t in trajs],
         "ground_height_m": {t.case: t.ground_height_m for t in trajs},
         "samples": {t.case: t.n_samples for t in trajs},
@@ -95,6 +111,10 @@ def build_metadata(trajs, *, plan: Plan, robot: Robot, rate_hz: float, provenanc
         "conventions": "SI units; x forward, z up; joint angles zero hanging straight down, positive about +y; "
                        "joint torque applied by the actuator to the child segment, positive about +y",
     }
+    if robot.legs:
+        meta["legs"] = list(robot.legs)
+        meta["gait"] = {t.case: t.gait for t in trajs}
+        meta["leg_phases"] = {str(k): v for k, v in LEG_PHASES.items()}
     if plan.scaling is not None:
         s = plan.scaling
         meta["scaling"] = {"length_m": s.length_m, "mass_kg": s.mass_kg, "gravity_m_s2": s.gravity_m_s2, "source": s.source}
@@ -158,9 +178,9 @@ def targets_bytes(trajs, name: str, *, plan: Plan, robot: Robot, rate_hz: float,
         if not np.isclose(t.rate_hz, rate_hz, rtol=1e-12, atol=0.0):
             raise TargetsExportError(f"case '{t.case}' was translated at another rate", key="rate_hz",
                                      expected=f"{rate_hz:g} Hz", found=t.rate_hz)
-        if tuple(t.joint_names) != tuple(robot.joint_names):
+        if tuple(t.joint_names) != tuple(robot.limb_joint_names):
             raise TargetsExportError(f"case '{t.case}' has other joints than robot '{robot.name}'", key="joint_names",
-                                     expected=list(robot.joint_names), found=list(t.joint_names))
+                                     expected=list(robot.limb_joint_names), found=list(t.joint_names))
     meta = build_metadata(trajs, plan=plan, robot=robot, rate_hz=rate_hz, provenance=provenance)
     if ext == ".csv":
         return _csv_text(trajs, meta).encode("utf-8")

@@ -24,7 +24,7 @@ least squares and Pinocchio Jacobians per sample.
 
 from __future__ import annotations
 
-from dataclasses import replace
+from dataclasses import dataclass, replace
 
 import numpy as np
 import pinocchio as pin
@@ -134,12 +134,26 @@ def _base_axis(channel, force, stance, gravity, m_total):
     return np.zeros(n), np.zeros(n), acc
 
 
-def translate_resampled(rs: ResampledCase, robot: Robot, leg: LegModel, *, name: str = "",
-                        ground_height_m: float = 0.0, rate_hz: float = 1000.0) -> JointTrajectory:
-    """translate() on a case already on the controller grid."""
-    n, nj = rs.n_samples, leg.n_joints
+@dataclass(frozen=True, eq=False)
+class LegJointMotion:
+    """One leg's joints following a leg vector: q, qd, qdd (n, j); flags (n,) FLAG_* bits;
+    jac (n, 2, j) foot Jacobian (x, z rows, world-aligned); rot (n, 3, 3) world rotation of the
+    foot's parent joint."""
+
+    q: np.ndarray
+    qd: np.ndarray
+    qdd: np.ndarray
+    flags: np.ndarray
+    jac: np.ndarray
+    rot: np.ndarray
+
+
+def leg_joint_motion(leg: LegModel, robot: Robot, ll, la) -> LegJointMotion:
+    """Inverse kinematics and joint rates of one leg whose length ``ll`` and angle ``la`` (each with
+    .value, .rate, .accel, shape (n,)) are given: the hip-to-foot vector and its analytic rates
+    (mapping.kinematics), the IK (mapping.ik) and qd = A^-1 r_dot, qdd = A^-1 (r_ddot - J_dot qd)."""
+    n, nj = ll.value.shape[0], leg.n_joints
     lengths = leg.link_lengths_m
-    ll, la = rs.leg_length, rs.leg_angle
     r = leg_vector(ll.value, la.value)
     rd, rdd = leg_vector_rates(ll.value, ll.rate, ll.accel, la.value, la.rate, la.accel)
     straight = is_straight_chain(leg)
@@ -170,6 +184,15 @@ def translate_resampled(rs: ResampledCase, robot: Robot, leg: LegModel, *, name:
     else:
         jdq = chain.jdot_qd(q, qd) if chain is not None else _general_jdot_qd(leg, q, qd)
     qdd = solve_rates(a_mat, np.hstack([rdd - jdq, pad]), singular, lengths[0])
+    return LegJointMotion(q, qd, qdd, flags, jac, rot)
+
+
+def translate_resampled(rs: ResampledCase, robot: Robot, leg: LegModel, *, name: str = "",
+                        ground_height_m: float = 0.0, rate_hz: float = 1000.0) -> JointTrajectory:
+    """translate() on a case already on the controller grid."""
+    n = rs.n_samples
+    m = leg_joint_motion(leg, robot, rs.leg_length, rs.leg_angle)
+    q, qd, qdd, flags, jac, rot = m.q, m.qd, m.qdd, m.flags, m.jac, m.rot
 
     # ground force (stance only) and base motion
     stance = np.asarray(rs.stance, dtype=bool)
@@ -244,25 +267,40 @@ def translate(case: ReducedTrajectory, robot: Robot, *, rate_hz: float = 1000.0,
     leg = leg_model if leg_model is not None else build_leg_model(robot)
     rs = resample_case(case, rate_hz, phase_ends=True)
     full = translate_resampled(rs, robot, leg, name=case.name, ground_height_m=case.ground_height_m, rate_hz=rate_hz)
-    probe = np.asarray(rs.probe, dtype=bool)
-    if not probe.any():
-        return full
-    # the phase ends (mapping.resample) leave the grid; each folds into the grid sample before it
-    at = np.flatnonzero(probe)
-    before = at - np.arange(at.size) - 1
-    index = np.maximum(before, 0)
-    index.setflags(write=False)
-    return replace(full.rows(~probe), phase_ends=full.rows(probe), phase_end_index=index)
+    return full.split_phase_ends(rs.probe)
 
 
 def translate_plan(plan: Plan, robot: Robot, *, rate_hz: float = 1000.0,
                    cases: tuple[str, ...] | list[str] | None = None,
-                   leg_model: LegModel | None = None) -> tuple[JointTrajectory, ...]:
+                   leg_model: LegModel | None = None, gait=None) -> tuple[JointTrajectory, ...]:
     """translate() every case of a plan (or the named ``cases``, in that order); one LegModel per plan
-    (``leg_model`` when given, e.g. a worker's cached one).
+    (``leg_model`` when given, e.g. a worker's cached one). A biped robot (robot.legs) goes through
+    mapping.biped.translate_biped with ``gait`` (a mapping.gait.Gait, its text form, or None: the
+    plan's metadata 'gait', else alternating legs, left first).
 
     An unknown case name raises LegbridgeError listing the plan's cases.
     """
     chosen = plan.cases if cases is None else tuple(plan.case(c) for c in cases)
+    if robot.is_biped:
+        from legbridge.robots.biped_model import cached_biped_model
+
+        from .biped import translate_biped
+
+        model = cached_biped_model(robot)
+        g = resolve_gait(plan, gait)
+        return tuple(translate_biped(c, robot, rate_hz=rate_hz, model=model, gait=g) for c in chosen)
     leg = leg_model if leg_model is not None else build_leg_model(robot)
     return tuple(translate(c, robot, rate_hz=rate_hz, leg_model=leg) for c in chosen)
+
+
+def resolve_gait(plan: Plan, gait=None):
+    """The gait to use: ``gait`` (a Gait or its text form), else the plan's metadata 'gait', else
+    alternating legs, left first (mapping.gait)."""
+    from .gait import Gait, parse_gait
+
+    if isinstance(gait, Gait):
+        return gait
+    if gait is not None:
+        return parse_gait(str(gait))
+    meta = plan.metadata.get("gait") if isinstance(plan.metadata, dict) else None
+    return parse_gait(str(meta)) if meta is not None else Gait()

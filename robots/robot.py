@@ -182,6 +182,9 @@ class Robot:
     joints: hip, knee (and ankle), in chain order
     source, sha256: the description file and its SHA-256 (hex)
     warnings: non-fatal findings of the loader (e.g. Kt and Ke that disagree)
+    legs: () for a one-leg description; ('left', 'right') for a biped whose two legs both follow
+        this one leg description (both hips at the body's hip point in the sagittal model); the
+        body mass then excludes both legs. Joints of a biped are named '<leg>_<joint>' (limb_joints)
     """
 
     name: str
@@ -198,19 +201,42 @@ class Robot:
     foot_pitch_rad: float = 0.0
     urdf: UrdfSource | None = None
     warnings: tuple[str, ...] = field(default=(), compare=False)
+    legs: tuple[str, ...] = ()
 
     @property
     def joint_names(self) -> tuple[str, ...]:
         return tuple(j.name for j in self.joints)
 
+    @property
+    def is_biped(self) -> bool:
+        return len(self.legs) == 2
+
+    @property
+    def limb_joints(self) -> tuple[Joint, ...]:
+        """Every actuated joint of the robot in trajectory order: the leg's joints for a one-leg
+        description; each leg's copy, named '<leg>_<joint>', leg after leg, for a biped."""
+        if not self.legs:
+            return self.joints
+        from dataclasses import replace
+
+        return tuple(replace(j, name=f"{leg}_{j.name}") for leg in self.legs for j in self.joints)
+
+    @property
+    def limb_joint_names(self) -> tuple[str, ...]:
+        return tuple(j.name for j in self.limb_joints)
+
     def joint(self, name: str) -> Joint:
         for j in self.joints:
             if j.name == name:
                 return j
+        for j in self.limb_joints if self.legs else ():
+            if j.name == name:
+                return j
         from .errors import LegbridgeError
 
+        valid = list(self.joint_names) + (list(self.limb_joint_names) if self.legs else [])
         raise LegbridgeError(
-            f"robot '{self.name}' has no joint '{name}'", expected=f"one of {list(self.joint_names)}", found=name
+            f"robot '{self.name}' has no joint '{name}'", expected=f"one of {valid}", found=name
         )
 
     @property
@@ -220,5 +246,5 @@ class Robot:
 
     @property
     def total_mass_kg(self) -> float:
-        """Body plus leg [kg]: the mass a spring-mass plan of this robot should carry."""
-        return self.body_mass_kg + self.leg_mass_kg
+        """Body plus leg(s) [kg]: the mass a spring-mass plan of this robot should carry."""
+        return self.body_mass_kg + self.leg_mass_kg * max(1, len(self.legs))

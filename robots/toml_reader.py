@@ -96,6 +96,20 @@ def read_segment(t: Table) -> Segment:
     return seg
 
 
+BIPED_LEGS = ("left", "right")
+
+
+def read_legs(r, path: str) -> tuple[str, ...]:
+    """``[robot] legs``: absent (one leg) or ["left", "right"] (a biped, both legs this description)."""
+    if not r.has("legs"):
+        return ()
+    legs = r.raw("legs")
+    if not (isinstance(legs, list) and tuple(legs) == BIPED_LEGS):
+        raise RobotFileError(path=path, key=r.key("legs"), expected=f"{list(BIPED_LEGS)} (a biped) or no key (one leg)",
+                             found=legs)
+    return BIPED_LEGS
+
+
 def robot_from_toml(doc: dict, path: str, sha256: str, *, extra_sections: tuple[str, ...] = ()) -> Robot:
     """Build a Robot from a parsed native TOML document (``[robot]``, ``[[segments]]``, ``[joints]``)."""
     top = Table(doc, path, "")
@@ -108,6 +122,7 @@ def robot_from_toml(doc: dict, path: str, sha256: str, *, extra_sections: tuple[
     hip = (r.number("hip_offset_x_m", 0.0), r.number("hip_offset_z_m", 0.0))
     l0 = r.number("nominal_leg_length_m", None, positive=True)
     foot_pitch = r.number("foot_pitch_rad", 0.0)
+    legs = read_legs(r, path)
     r.refuse_unknown()
 
     segs_raw = top.raw("segments")
@@ -148,6 +163,7 @@ def robot_from_toml(doc: dict, path: str, sha256: str, *, extra_sections: tuple[
         nominal_leg_length_m=l0,
         foot_pitch_rad=foot_pitch,
         warnings=tuple(w for j in joints for w in j.actuator.notes),
+        legs=legs,
     )
 
 

@@ -34,6 +34,10 @@ class CheckSettings:
         per joint and sample as peak joint torque / joint-space inertia of the unloaded leg
     max_flight_pitch_rad: how far the body may pitch in flight before the landing is flagged [rad];
         the default 0.15 rad (8.6 deg) is a stated choice, not a property of any robot: set your lab's
+    min_swing_clearance_m: how high a biped's swing foot must stay above the ground over its generated
+        swing [m]; the default 0.02 m is a stated choice, not a property of any robot: set your lab's
+    gait: a biped's leg assignment in its text form (mapping.gait.parse_gait: 'alternating',
+        'alternating:right', 'same-leg', 'same-leg:right', 'both'); None = the plan's, else alternating
     run_qps: solve the force-feasibility and nearest-motion QPs (True) or skip them (False)
     solver: cvxpy solver name for the QPs ('CLARABEL' or 'OSQP')
     """
@@ -47,6 +51,8 @@ class CheckSettings:
     range_margin_rad: float | None = None
     max_joint_accel_rad_s2: float | None = None
     max_flight_pitch_rad: float = 0.15
+    min_swing_clearance_m: float = 0.02
+    gait: str | None = None
     run_qps: bool = True
     solver: str = "CLARABEL"
 
@@ -58,7 +64,8 @@ class CheckSettings:
             bad("rate_hz", "a positive rate in Hz", self.rate_hz)
         if not (0.0 <= self.margin < 1.0):
             bad("margin", "a fraction in [0, 1)", self.margin)
-        for key in ("duration_s", "supply_power_w", "regen_energy_j", "max_joint_accel_rad_s2", "max_flight_pitch_rad"):
+        for key in ("duration_s", "supply_power_w", "regen_energy_j", "max_joint_accel_rad_s2", "max_flight_pitch_rad",
+                    "min_swing_clearance_m"):
             v = getattr(self, key)
             if v is not None and not (math.isfinite(v) and v > 0):
                 bad(key, "a positive number or None", v)
@@ -66,6 +73,14 @@ class CheckSettings:
             bad("friction", "a positive friction coefficient", self.friction)
         if self.range_margin_rad is not None and not (math.isfinite(self.range_margin_rad) and self.range_margin_rad >= 0):
             bad("range_margin_rad", "a non-negative angle in rad", self.range_margin_rad)
+        if self.gait is not None:
+            from legbridge.mapping.gait import parse_gait
+            from legbridge.robots.errors import PlanFormatError
+
+            try:
+                parse_gait(self.gait)
+            except PlanFormatError as exc:
+                bad("gait", exc.expected or "a gait", self.gait)
         if self.solver.upper() not in ("CLARABEL", "OSQP"):
             bad("solver", "'CLARABEL' or 'OSQP'", self.solver)
 

@@ -45,7 +45,7 @@ def run(args) -> int:
         check_marked_name(args.modified_targets)
     robot_path = resolve_robot(args.robot)
     check_outputs([args.output, args.modified_targets], inputs=[args.plan, robot_path], force=args.force)
-    prepared = prepare(args.plan, robot_path, rate_hz=settings.rate_hz)
+    prepared = prepare(args.plan, robot_path, rate_hz=settings.rate_hz, gait=settings.gait)
     cases = check_plan(prepared.trajectories, prepared.robot, settings)
     review = assemble_review(prepared.plan, prepared.robot, settings, cases, warnings=prepared.warnings)
     paths = {}

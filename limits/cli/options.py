@@ -31,6 +31,17 @@ def add_check_options(p) -> None:
                    help="energy the supply can absorb per step when the motors regenerate [J] (default: reported only)")
     p.add_argument("--max-flight-pitch", type=float, default=0.15, metavar="RAD",
                    help="body pitch in flight beyond which the landing is flagged [rad] (default 0.15, a stated choice)")
+    p.add_argument("--min-clearance", type=float, default=0.02, metavar="M",
+                   help="bipeds: least height of a swing foot above the ground over its generated swing [m] "
+                        "(default 0.02, a stated choice)")
+    add_gait(p)
+
+
+def add_gait(p) -> None:
+    """--gait GAIT: which leg of a biped takes each stance."""
+    p.add_argument("--gait", default=None, metavar="GAIT",
+                   help="bipeds: alternating[:left|right] (running), same-leg[:left|right] (hopping on one leg, "
+                        "the other held), or both (two-legged hop); default: the plan's, else alternating:left")
 
 
 def add_output(p, help_text: str, *, required: bool = False) -> None:
@@ -54,7 +65,8 @@ def add_ground_offsets(p, help_text: str) -> None:
 # CheckSettings field -> the option that sets it (messages name what the user typed)
 OPTION_OF = {"rate_hz": "--rate", "duration_s": "--duration", "margin": "--margin", "friction": "--friction",
              "supply_power_w": "--supply-power", "regen_energy_j": "--regen-energy",
-             "max_flight_pitch_rad": "--max-flight-pitch"}
+             "max_flight_pitch_rad": "--max-flight-pitch", "min_swing_clearance_m": "--min-clearance",
+             "gait": "--gait"}
 
 
 def settings_from_args(args):
@@ -66,7 +78,8 @@ def settings_from_args(args):
     try:
         return CheckSettings(rate_hz=args.rate, duration_s=args.duration, margin=args.margin, friction=args.friction,
                              supply_power_w=args.supply_power, regen_energy_j=args.regen_energy,
-                             max_flight_pitch_rad=args.max_flight_pitch)
+                             max_flight_pitch_rad=args.max_flight_pitch,
+                             min_swing_clearance_m=args.min_clearance, gait=args.gait)
     except CheckSettingsError as exc:
         raise CheckSettingsError(key=OPTION_OF.get(exc.key, exc.key), expected=exc.expected, found=exc.found) from exc
 

@@ -15,7 +15,7 @@ from __future__ import annotations
 from pathlib import Path
 
 from legbridge.limits.cautions import caution_lines
-from legbridge.limits.cli.options import add_output, add_robot
+from legbridge.limits.cli.options import add_gait, add_output, add_robot
 
 
 def register(subparsers) -> None:
@@ -25,6 +25,7 @@ def register(subparsers) -> None:
     add_robot(p)
     p.add_argument("--rate", type=float, default=1000.0, metavar="HZ", help="controller rate in Hz (default 1000)")
     p.add_argument("--case", action="append", metavar="NAME", help="translate only this case (repeatable)")
+    add_gait(p)
     add_output(p, "targets file to write (.csv, .npz, .json)", required=True)
     p.set_defaults(func=run)
 
@@ -68,7 +69,7 @@ def run(args) -> int:
     rate = check_rate(args.rate)
     robot_path = resolve_robot(args.robot)
     (out,) = check_outputs([args.output], inputs=[args.plan, robot_path], force=args.force)
-    prepared = prepare(args.plan, robot_path, rate_hz=rate, cases=args.case)
+    prepared = prepare(args.plan, robot_path, rate_hz=rate, cases=args.case, gait=getattr(args, 'gait', None))
     write_targets(prepared.trajectories, out, plan=prepared.plan, robot=prepared.robot, rate_hz=rate, force=args.force)
     print("\n".join(summary_lines(prepared.plan, prepared.trajectories, out, rate, prepared.warnings)))
     print()

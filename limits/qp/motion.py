@@ -43,6 +43,9 @@ def joint_inertia_diag_kgm2(robot, q) -> np.ndarray:
     """
     q = np.atleast_2d(np.asarray(q, dtype=float))
     n, nj = q.shape
+    nseg = len(robot.segments)
+    if robot.legs and nseg and nj == nseg * len(robot.legs):  # a biped: each leg on its own (fixed hip)
+        return np.hstack([joint_inertia_diag_kgm2(robot, q[:, k:k + nseg]) for k in range(0, nj, nseg)])
     if robot.segments:
         ang = np.cumsum(q, axis=1)
         dirs = np.stack([-np.sin(ang), -np.cos(ang)], axis=-1)  # (n, j, 2): segment i hangs along R_y(-z)
@@ -181,7 +184,7 @@ def nearest_motion(traj, robot, settings, solver: str = "CLARABEL"):
     from dataclasses import replace
 
     from legbridge.mapping.retarget import joint_mass_matrices
-    from legbridge.robots.leg_model import cached_leg_model
+    from legbridge.robots.biped_model import dynamics_model
 
     from .force import torque_bounds
 
@@ -192,7 +195,7 @@ def nearest_motion(traj, robot, settings, solver: str = "CLARABEL"):
     dt = 1.0 / float(traj.rate_hz)
     q = np.asarray(traj.q, dtype=float)
     n, nj = q.shape
-    leg = cached_leg_model(robot)
+    leg = dynamics_model(robot)
     mass = joint_mass_matrices(leg, q, traj.base_pitch_rad)
     amax = accel_limits(traj, robot, settings, np.diagonal(mass, axis1=1, axis2=2))  # one CRBA pass, not two
     t_lo, t_hi = torque_bounds(traj, robot)

@@ -62,7 +62,7 @@ def write_corrected_targets(review, path, *, force: bool = False):
     p = check_marked_name(path)
     check_outputs([p], inputs=[getattr(plan, "path", None), getattr(robot, "source", None) or None], force=force)
     motions = [modified_motion(r) for r in reviews]  # every case solved, or nothing is written
-    joints = list(robot.joint_names)
+    joints = list(robot.limb_joint_names)
     cols = ["case", "time_s"] + [f"{j}_{s}" for j in joints for s in ("position_rad", "velocity_rad_s", "deviation_rad")]
     meta = {
         "content": "MODIFIED joint targets: the nearest motion within the hard stops, speed limits and the actuators' "

@@ -137,7 +137,7 @@ def build_review(plan, robot, settings: CheckSettings | None = None, *, sweep=SW
 
         setup_from_plan(plan)
     say(f"translating {len(plan.cases)} case(s) at {settings.rate_hz:g} Hz")
-    prepared = prepare(plan, robot, rate_hz=settings.rate_hz)
+    prepared = prepare(plan, robot, rate_hz=settings.rate_hz, gait=settings.gait)
     timings["translate_s"] = time.perf_counter() - t
     t = time.perf_counter()
     cases = []

@@ -102,6 +102,7 @@ class SimSetup:
     apex: ApexState
     duration_s: float
     rate_hz: float
+    flight_swing: str = "whole-flight"
 
 
 def setup_from_plan(plan: Plan) -> SimSetup:
@@ -126,7 +127,13 @@ def setup_from_plan(plan: Plan) -> SimSetup:
         raise SweepInputError(key="metadata.duration_s/rate_hz", path=plan.path,
                               expected="a positive duration and sample rate (or cases to take them from)",
                               found=f"{duration}/{rate}")
-    return SimSetup(params, policy, apex, float(duration), float(rate))
+    swing = meta.get("flight_swing", "whole-flight")
+    from legbridge.mapping.slip.simulate import FLIGHT_SWINGS
+
+    if swing not in FLIGHT_SWINGS:
+        raise SweepInputError(key="metadata.flight_swing", path=plan.path, expected=f"one of {list(FLIGHT_SWINGS)}",
+                              found=swing)
+    return SimSetup(params, policy, apex, float(duration), float(rate), swing)
 
 
 @dataclass(frozen=True)

@@ -102,7 +102,8 @@ def run_offset(task: OffsetTask) -> OffsetResult:
         reuse_compiled_problems(True)
     s = task.setup
     t0 = time.perf_counter()
-    sim = simulate(s.params, s.policy, s.apex, task.offset_m, s.duration_s, s.rate_hz, name=task.name)
+    sim = simulate(s.params, s.policy, s.apex, task.offset_m, s.duration_s, s.rate_hz, name=task.name,
+                   flight_swing=s.flight_swing)
     t1 = time.perf_counter()
     base = simulated_result(sim, task.offset_m, task.name, keep_trajectory=task.keep_trajectory)
     if not sim.outcome.completed:
@@ -110,7 +111,8 @@ def run_offset(task: OffsetTask) -> OffsetResult:
     robot = task.robot if task.robot is not None else _robot_from_file(task.robot_path, task.robot_sha256)
     try:
         one = Plan(path=f"<sweep offset {task.offset_m:+.4f} m>", sha256="", cases=(sim.trajectory,), metadata={})
-        (traj,) = prepare(one, robot, rate_hz=task.settings.rate_hz, leg_model=cached_leg_model(robot)).trajectories
+        (traj,) = prepare(one, robot, rate_hz=task.settings.rate_hz, leg_model=cached_leg_model(robot),
+                           gait=task.settings.gait).trajectories
     except LegbridgeError as exc:
         t2 = time.perf_counter()
         return replace(base, verdict=Verdict.NOT_EVALUATED, findings=(f"translation failed: {exc}",),
@@ -305,7 +307,8 @@ def run_sweep(plans, robots, offsets=None, *, settings: CheckSettings | None = N
         if nominal is None:  # the reference is simulated anyway (reduced model only)
             s = setup
             nominal = simulated_result(simulate(s.params, s.policy, s.apex, 0.0, s.duration_s, s.rate_hz,
-                                                name=case_name(0.0)), 0.0, case_name(0.0))
+                                                name=case_name(0.0), flight_swing=s.flight_swing),
+                                       0.0, case_name(0.0))
         out.append(assemble(info, settings, setup, mine, nominal, qps))
     return tuple(out)
 

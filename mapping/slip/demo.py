@@ -31,9 +31,16 @@ LEFT_OUT_HEIGHTS_M = (0.08,)
 DEMO_DURATION_S = 2.0
 DEMO_RATE_HZ = 500.0
 SHIPPED_DEMO_PLAN = "demo-hop-plan.json"
+SHIPPED_DEMO_RUN_PLAN = "demo-run-plan.json"
 DEMO_DESCRIPTION = (
     "INVENTED demo scenario (no real robot): 25 kg lab biped hopping forward at about 1.5 m/s on a "
     "0.70 m spring-mass leg, ground-height cases sharing one open-loop policy"
+)
+
+
+DEMO_RUN_DESCRIPTION = (
+    "INVENTED demo scenario (no real robot): 25 kg lab biped running forward at about 1.5 m/s with "
+    "alternating legs on a 0.70 m spring-mass leg, ground-height cases sharing one open-loop policy"
 )
 
 
@@ -79,14 +86,30 @@ def demo_plan(heights_m=DEMO_HEIGHTS_M) -> Plan:
     )
 
 
-def shipped_demo_plan_path() -> Path:
+def demo_run_plan(heights_m=DEMO_HEIGHTS_M) -> Plan:
+    """The demo plan for a biped running with alternating legs: the same cases with the flight leg angle
+    written for the landing leg (simulate's flight_swing='policy') and metadata gait 'alternating'."""
+    return simulate_cases(
+        demo_params(),
+        demo_policy(),
+        demo_apex(),
+        heights_m,
+        duration_s=DEMO_DURATION_S,
+        rate_hz=DEMO_RATE_HZ,
+        metadata={"description": DEMO_RUN_DESCRIPTION, "invented": "yes", "gait": "alternating"},
+        path="<legbridge demo running plan>",
+        flight_swing="policy",
+    )
+
+
+def shipped_demo_plan_path(name: str = SHIPPED_DEMO_PLAN) -> Path:
     """Path of the demo plan file shipped inside the package (package data, same bytes everywhere).
 
     Found with importlib.resources, so it works from a checkout, an editable install and a regular
     wheel install. Raises InputFileNotFound when the file is missing from the installation, or when
     the package is not installed as plain files (e.g. imported from a zip archive).
     """
-    res = files(__package__) / SHIPPED_DEMO_PLAN
+    res = files(__package__) / name
     if not isinstance(res, Path):
         raise InputFileNotFound("the shipped demo plan is not a plain file in this installation", path=str(res),
                                 expected="legbridge installed as files (not zipped)", found=type(res).__name__)
@@ -94,6 +117,11 @@ def shipped_demo_plan_path() -> Path:
         raise InputFileNotFound("the shipped demo plan is missing from this installation", path=str(res),
                                 hint="reinstall legbridge; the file is package data of legbridge.mapping.slip")
     return res
+
+
+def shipped_demo_run_plan() -> Plan:
+    """The shipped biped running demo plan (``demo-run-plan.json``, written by examples/make_demo_plans.py)."""
+    return read_plan(shipped_demo_plan_path(SHIPPED_DEMO_RUN_PLAN))
 
 
 def shipped_demo_plan() -> Plan:
@@ -109,10 +137,13 @@ __all__ = [
     "DEMO_HEIGHTS_M",
     "LEFT_OUT_HEIGHTS_M",
     "SHIPPED_DEMO_PLAN",
+    "SHIPPED_DEMO_RUN_PLAN",
     "demo_apex",
     "demo_params",
     "demo_plan",
     "demo_policy",
+    "demo_run_plan",
     "shipped_demo_plan",
     "shipped_demo_plan_path",
+    "shipped_demo_run_plan",
 ]

@@ -14,7 +14,7 @@ liftoff without upward velocity, or an apex where the foot is not above the grou
 The ODE is solved with RK45 (rtol 1e-8, atol 1e-9), dense output, and sampled afterwards in one
 vectorised pass per phase.
 
-Leg angle during flight (the massless leg's swing does not act on the body; only the touchdown
+Leg angle during flight, ``flight_swing='whole-flight'`` (the default; the massless leg's swing does not act on the body; only the touchdown
 angle, the policy's angle at the instant of touchdown, does): when the flight ends in a touchdown,
 the sampled angle is one cubic Hermite swing over the whole flight, from the liftoff angle and
 angular rate to the policy's angle and rate at touchdown, so a real leg is asked for the gentlest
@@ -24,6 +24,12 @@ predicted from the ballistic flight and the policy (root of z - l_act cos(a) = h
 the actuator length) and the swing aims there; if no touchdown is predicted, the swing reaches the
 policy's angle and rate of time 0 at the apex and follows the policy after it. Either way the
 sampled angle is continuous with its rate.
+
+``flight_swing='policy'`` writes the flight for a biped, whose landing leg is not the leg that just
+lifted off: after the apex the policy's angle itself (the plan's swing-leg retraction, exactly), before
+it the policy's tangent line through its apex angle and rate, a0 + w0 (t - t_apex) (the landing leg
+coming forward into the retraction). The angle then jumps at liftoff from the stance leg's to the
+landing leg's; the resampling never interpolates across a phase change (mapping.resample).
 """
 
 from __future__ import annotations
@@ -64,6 +70,9 @@ REASON_CLEARANCE = "no foot clearance at apex"
 REASON_NO_FLIGHT = "liftoff without upward velocity"
 
 
+FLIGHT_SWINGS = ("whole-flight", "policy")
+
+
 def _check_settings(ground_height_m, duration_s, rate_hz) -> tuple[float, float, float]:
     out = []
     for name, v, positive in (("ground_height_m", ground_height_m, False), ("duration_s", duration_s, True), ("rate_hz", rate_hz, True)):
@@ -92,6 +101,7 @@ def simulate(
     rate_hz: float,
     *,
     name: str = "case",
+    flight_swing: str = "whole-flight",
 ) -> SimulationResult:
     """Simulate one ground-height case from an apex for ``duration_s`` [s], sampled at ``rate_hz`` [Hz].
 
@@ -99,9 +109,13 @@ def simulate(
     initial_apex_state: body state at the first apex (``time_s`` is ignored: the run starts at t = 0)
     ground_height_m: height h of the flat ground [m] (the case's ground-height offset)
     name: the case name given to the trajectory
+    flight_swing: how the sampled flight leg angle is written (module docstring): 'whole-flight' (one
+        leg swinging from liftoff to touchdown) or 'policy' (the landing leg of a biped: the policy)
     Returns a :class:`SimulationResult`; the trajectory stops at a fall.
     """
     h, duration, rate = _check_settings(ground_height_m, duration_s, rate_hz)
+    if flight_swing not in FLIGHT_SWINGS:
+        raise SlipInputError(key="flight_swing", expected=f"one of {list(FLIGHT_SWINGS)}", found=flight_swing)
     if not isinstance(params, SpringMassParams):
         raise SlipInputError(key="params", expected="SpringMassParams", found=type(params).__name__)
     if not isinstance(initial_apex_state, ApexState):
@@ -230,7 +244,7 @@ def simulate(
     if not segments:  # fell at the initial apex: one sample of the apex state
         y0 = np.array(y, dtype=float)
         segments.append(_Segment("down", 0.0, 0.0, lambda ts: np.repeat(y0[:, None], np.size(ts), axis=1), 0.0))
-    traj = _sample(params, curves, segments, h, outcome.time_s, rate, name)
+    traj = _sample(params, curves, segments, h, outcome.time_s, rate, name, flight_swing)
     return SimulationResult(traj, tuple(events), outcome, tuple(apexes), int(nfev))
 
 
@@ -285,7 +299,7 @@ def _predicted_touchdown(params, curves, h, z_lo, vz_lo, rise_s):
     return float(brentq(clearance, 0.0, horizon, xtol=1e-9))
 
 
-def _sample(params, curves, segments, h, t_end, rate, name) -> ReducedTrajectory:
+def _sample(params, curves, segments, h, t_end, rate, name, flight_swing="whole-flight") -> ReducedTrajectory:
     """Sample the solved phases on ``t = i / rate`` up to ``t_end`` (vectorised per phase)."""
     n = int(math.floor(t_end * rate + 1e-9)) + 1
     t = np.arange(n) / rate
@@ -297,7 +311,7 @@ def _sample(params, curves, segments, h, t_end, rate, name) -> ReducedTrajectory
     instant = dyn.relax_rate(params) is None
     a0 = curves.angle(0.0)
     w0 = float(curves.angle_rate(0.0))
-    swings = _flight_swings(params, curves, segments, h)
+    swings = _flight_swings(params, curves, segments, h) if flight_swing == "whole-flight" else {}
     for i, seg in enumerate(segments):
         idx = np.flatnonzero(which == i)
         if idx.size == 0:
@@ -321,6 +335,8 @@ def _sample(params, curves, segments, h, t_end, rate, name) -> ReducedTrajectory
             cols["fz"][idx] = 0.0
             if i in swings:
                 cols["a"][idx] = _hermite(ts, *swings[i])
+            elif flight_swing == "policy" and seg.kind == "up":  # the policy's line through its apex value
+                cols["a"][idx] = a0 + w0 * (ts - seg.liftoff[3])
             elif seg.kind == "down":
                 cols["a"][idx] = curves.angle_array(ts - seg.t_apex)
             else:

@@ -43,6 +43,7 @@ def simulate_heights(
     duration_s: float = 2.0,
     rate_hz: float = 500.0,
     names=None,
+    flight_swing: str = "whole-flight",
 ) -> tuple[SimulationResult, ...]:
     """Simulate one case per ground height [m] with the same policy and initial apex.
 
@@ -54,7 +55,8 @@ def simulate_heights(
     names = [case_name(h) for h in heights] if names is None else list(names)
     if len(names) != len(heights) or len(set(names)) != len(names):
         raise SlipInputError(key="names", expected=f"{len(heights)} distinct case names", found=names)
-    return tuple(simulate(params, policy, apex, h, duration_s, rate_hz, name=n) for h, n in zip(heights, names))
+    return tuple(simulate(params, policy, apex, h, duration_s, rate_hz, name=n, flight_swing=flight_swing)
+                 for h, n in zip(heights, names))
 
 
 def plan_from_results(
@@ -106,10 +108,16 @@ def simulate_cases(
     names=None,
     metadata: dict | None = None,
     path: str = SIMULATED_PATH,
+    flight_swing: str = "whole-flight",
 ) -> Plan:
-    """:func:`simulate_heights` then :func:`plan_from_results`: one plan, one case per ground height [m]."""
-    results = simulate_heights(params, policy, apex, heights, duration_s=duration_s, rate_hz=rate_hz, names=names)
-    return plan_from_results(params, policy, apex, results, metadata=metadata, path=path)
+    """:func:`simulate_heights` then :func:`plan_from_results`: one plan, one case per ground height [m]
+    (metadata 'flight_swing' records how the flight leg angle was written, so a sweep writes it alike)."""
+    results = simulate_heights(params, policy, apex, heights, duration_s=duration_s, rate_hz=rate_hz, names=names,
+                               flight_swing=flight_swing)
+    meta = dict(metadata or {})
+    if flight_swing != "whole-flight":
+        meta["flight_swing"] = flight_swing
+    return plan_from_results(params, policy, apex, results, metadata=meta, path=path)
 
 
 def plan_for_flat_formats(plan: Plan) -> Plan:

@@ -69,7 +69,7 @@ def test_non_finite_numbers_become_null(example_robot, make_traj):
 
 def _run(monkeypatch, capsys, trajs, robot, argv):
     plan = SimpleNamespace(path="plan.csv", sha256="00", scaling=None)
-    monkeypatch.setattr(check_cmd, "prepare", lambda p, r, rate_hz: Prepared(plan, robot, tuple(trajs), rate_hz))
+    monkeypatch.setattr(check_cmd, "prepare", lambda p, r, rate_hz, **kw: Prepared(plan, robot, tuple(trajs), rate_hz))
     monkeypatch.setattr("legbridge.robots.library.resolve_robot", lambda r: r)
     code = cli.main(["check", "plan.csv", "--robot", "robot.toml"] + argv)
     return code, capsys.readouterr()

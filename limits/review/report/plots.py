@@ -371,7 +371,7 @@ def thermal_figure(reviews, robot, duration_s: float | None) -> Figure:
 
     One panel per joint; one line style per case.
     """
-    names = robot.joint_names
+    names = robot.limb_joint_names
     nj = len(names)
     fig = _new_figure(2.9 * nj + 0.6, 3.4, bottom=1.0, top=0.55)
     axes = fig.subplots(1, nj, squeeze=False)[0]

@@ -232,12 +232,12 @@ def thermal(review) -> str:
     """Section 5: winding temperature over the test duration against its limit."""
     reviews, robot, settings = review.cases, review.robot, review.settings
     f = plots.thermal_figure(reviews, robot, settings.duration_s)
-    head = _row(["Case"] + [(f"{escape(j)}: time to limit [s]", "num") for j in robot.joint_names], header=True)
+    head = _row(["Case"] + [(f"{escape(j)}: time to limit [s]", "num") for j in robot.limb_joint_names], header=True)
     body = []
     for r in reviews:
         ttl = r.thermal.time_to_limit_s
         cells = []
-        for j in robot.joint_names:
+        for j in robot.limb_joint_names:
             v = ttl.get(j)
             cells.append(("not reached" if v is None or (isinstance(v, float) and math.isinf(v)) else num(v), "num"))
         body.append(_row([escape(r.case)] + cells))

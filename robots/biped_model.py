@@ -1,0 +1,122 @@
+"""The Pinocchio model of a biped on a planar floating base: one body carrying both legs.
+
+Base as for one leg (robots.leg_model): ``base_x`` (PX), ``base_z`` (PZ), ``base_pitch`` (RY), the
+body inertia on ``base_pitch``. Both hips sit at the body's hip point (``hip_offset_m`` from the body
+centre of mass; a sagittal model does not separate them sideways). Each leg is a copy of the robot's
+one leg description: RY joints named ``<leg>_<joint>``, segments hanging along -z, frames
+``<leg>_<segment>`` and ``<leg>_foot`` at the distal end. Zero joint angles: both legs hang straight
+down.
+
+The one-leg model (robots.leg_model.build_leg_model) still serves the inverse kinematics of each
+leg: a leg's joint angles depend only on its hip-to-foot vector, the same for either leg.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import pinocchio as pin
+
+from .errors import RobotFileError
+from .leg_model import BASE_JOINTS, FOOT_FRAME, HIP_FRAME, LegModel, _segment_inertia, build_leg_model, planar_base
+from .robot import Robot
+
+
+@dataclass(frozen=True, eq=False)
+class BipedModel:
+    """A Pinocchio model of both legs and the indices needed to use it.
+
+    joint_names: every leg joint, leg after leg ('left_hip', 'left_knee', ..., 'right_...')
+    q_index / v_index: their entries in q and v (the same order); base_q_index / base_v_index: (x, z, pitch)
+    foot_frame_ids: leg -> frame id of its foot; hip_frame_id: the hip point's frame
+    leg: the one-leg model (inverse kinematics of either leg)
+    """
+
+    model: pin.Model
+    legs: tuple[str, ...]
+    joint_names: tuple[str, ...]
+    q_index: np.ndarray
+    v_index: np.ndarray
+    base_q_index: np.ndarray
+    base_v_index: np.ndarray
+    foot_frame_ids: dict
+    hip_frame_id: int
+    leg: LegModel
+
+    @property
+    def n_joints(self) -> int:
+        return len(self.joint_names)
+
+    def columns(self, leg: str) -> slice:
+        """The columns of ``leg``'s joints in joint-ordered arrays (n, n_joints)."""
+        k = self.legs.index(leg)
+        nj = self.leg.n_joints
+        return slice(k * nj, (k + 1) * nj)
+
+
+def build_biped_model(robot: Robot) -> BipedModel:
+    """Pinocchio model of a biped described by one native TOML leg used for both legs."""
+    if not robot.is_biped:
+        raise RobotFileError(f"robot '{robot.name}' describes one leg", path=robot.source or None, key="robot.legs",
+                             expected='["left", "right"] for a biped', found=list(robot.legs))
+    if robot.urdf is not None:
+        raise RobotFileError("a URDF biped is not supported yet", path=robot.source or None, key="robot.legs",
+                             expected="a native TOML leg description ([[segments]]) used for both legs",
+                             found="a [urdf] section")
+    ident = pin.SE3.Identity()
+    i_body = robot.body_pitch_inertia_kgm2
+    model, jp = planar_base(robot.name, pin.Inertia(robot.body_mass_kg, np.zeros(3), np.diag([i_body, i_body, 1e-3 * i_body])))
+    hip_placement = pin.SE3(np.eye(3), np.array([robot.hip_offset_m[0], 0.0, robot.hip_offset_m[1]]))
+    model.addFrame(pin.Frame(HIP_FRAME, jp, hip_placement, pin.FrameType.OP_FRAME))
+    feet = {}
+    names = []
+    for leg in robot.legs:
+        parent, placement = jp, hip_placement
+        for seg, joint in zip(robot.segments, robot.joints):
+            name = f"{leg}_{joint.name}"
+            j = model.addJoint(parent, pin.JointModelRY(), placement, name,
+                               max_effort=np.array([np.inf]), max_velocity=np.array([np.inf]),
+                               min_config=np.array([joint.lower_rad]), max_config=np.array([joint.upper_rad]))
+            model.appendBodyToJoint(j, _segment_inertia(seg.mass_kg, seg.com_m, seg.inertia_kgm2), ident)
+            model.addFrame(pin.Frame(f"{leg}_{seg.name}", j, ident, pin.FrameType.BODY))
+            names.append(name)
+            parent, placement = j, pin.SE3(np.eye(3), np.array([0.0, 0.0, -seg.length_m]))
+        feet[leg] = model.addFrame(pin.Frame(f"{leg}_{FOOT_FRAME}", parent, placement, pin.FrameType.OP_FRAME))
+    jid = [model.getJointId(n) for n in names]
+    base = [model.getJointId(n) for n in BASE_JOINTS]
+    return BipedModel(
+        model=model, legs=tuple(robot.legs), joint_names=tuple(names),
+        q_index=np.array([model.joints[i].idx_q for i in jid]), v_index=np.array([model.joints[i].idx_v for i in jid]),
+        base_q_index=np.array([model.joints[i].idx_q for i in base]),
+        base_v_index=np.array([model.joints[i].idx_v for i in base]),
+        foot_frame_ids=feet, hip_frame_id=model.getFrameId(HIP_FRAME, pin.FrameType.OP_FRAME),
+        leg=build_leg_model(robot),
+    )
+
+
+_CACHE: dict = {}
+
+
+def cached_biped_model(robot: Robot) -> BipedModel:
+    """build_biped_model(robot), once per process and robot content."""
+    import hashlib
+    import pickle
+
+    key = hashlib.sha256(pickle.dumps(robot)).hexdigest()
+    if key not in _CACHE:
+        if len(_CACHE) >= 16:
+            _CACHE.clear()
+        _CACHE[key] = build_biped_model(robot)
+    return _CACHE[key]
+
+
+def dynamics_model(robot: Robot):
+    """The whole-robot model whose joints are the trajectory's: the two-leg model of a biped
+    (cached_biped_model), else the one-leg model (robots.leg_model.cached_leg_model). Both carry
+    .model, .q_index, .v_index, .base_q_index, .base_v_index."""
+    if robot.is_biped:
+        return cached_biped_model(robot)
+    from .leg_model import cached_leg_model
+
+    return cached_leg_model(robot)
