@@ -46,7 +46,7 @@ def evaluate(ctx: CheckContext):
             height = np.where(on, np.nan, 0.0)
         else:
             height = np.asarray(traj.foot_height_m[:, k], dtype=float)
-        util = np.where(height > -GROUND_TOL_M, allowed / np.maximum(np.nan_to_num(height, nan=1.0), GROUND_TOL_M), np.inf)
+        util = np.where(height >= -GROUND_TOL_M, allowed / np.maximum(np.nan_to_num(height, nan=1.0), GROUND_TOL_M), np.inf)
         util = np.where(on, np.where(np.isnan(height), np.nan, util), 0.0)
         out.append(trace("swing_clearance", leg, "m", np.nan_to_num(height, nan=0.0) if traj.foot_height_m is None
                          else height, allowed, util, source="generated swing, foot above the case's ground"))

@@ -17,6 +17,7 @@ the plan itself) and no solver is called; QPSolution.solver then says so. Residu
 from __future__ import annotations
 
 import time
+import warnings
 from dataclasses import dataclass
 
 import numpy as np
@@ -191,7 +192,9 @@ def solve(problem: QPProblem, solver: str = "CLARABEL") -> tuple[np.ndarray, QPS
     # defaults (1e-8) already do
     opts = {"eps_abs": 1e-9, "eps_rel": 1e-9, "polishing": True, "max_iter": 200000} if solver.upper() == "OSQP" else {}
     try:
-        prob.solve(solver=solver.upper(), **opts)
+        with warnings.catch_warnings():  # an inaccurate solution is judged below (status and KKT), not warned of
+            warnings.simplefilter("ignore", UserWarning)
+            prob.solve(solver=solver.upper(), **opts)
         status = str(prob.status)
     except cp.error.SolverError as exc:
         status = f"solver error: {exc}"

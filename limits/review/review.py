@@ -64,6 +64,11 @@ class Review:
         return exit_status(self.summaries)
 
     @property
+    def gait(self) -> str:
+        """A biped's gait in words (mapping.gait.Gait.describe), '' for a one-leg robot."""
+        return next((c.trajectory.gait for c in self.cases if getattr(c.trajectory, "gait", "")), "")
+
+    @property
     def trajectories(self) -> tuple:
         return tuple(c.trajectory for c in self.cases)
 

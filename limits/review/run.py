@@ -30,7 +30,7 @@ TARGETS_FILE = "targets.csv"
 SWEEP_CSV = "sweep.csv"
 SWEEP_JSON = "sweep.json"
 DEMO_PLAN = "demo-plan.json"
-DEMO_ROBOT = "lab-biped-leg"
+DEMO_ROBOT = "lab-biped"
 
 OUTPUT_NAMES = {"review": REVIEW_JSON, "targets": TARGETS_FILE, "report": REPORT_HTML,
                 "sweep_csv": SWEEP_CSV, "sweep_json": SWEEP_JSON}
@@ -134,17 +134,17 @@ def run_review(plan, robot, settings: CheckSettings | None, out_dir, *, force: b
 
 def run_demo_review(settings: CheckSettings | None, out_dir, *, force: bool = False, progress: Progress | None = None,
                     created: str | None = None, sweep=SWEEP_AUTO, jobs: int | None = None) -> ReviewRun:
-    """Review the shipped demo plan (invented data; the same bytes as examples/demo-hop-plan.json) on
-    the bundled demo robot. The plan is first copied to ``out_dir/demo-plan.json`` so the review
+    """Review the shipped demo running plan (invented data; the same bytes as
+    examples/demo-run-plan.json) on the bundled demo biped, alternating legs. The plan is first copied to ``out_dir/demo-plan.json`` so the review
     records a real file and its SHA-256; the copy is removed again if the review fails."""
-    from legbridge.mapping.slip.demo import shipped_demo_plan_path
+    from legbridge.mapping.slip.demo import SHIPPED_DEMO_RUN_PLAN, shipped_demo_plan_path
     from legbridge.robots.files import write_atomic
 
     out = check_output_folder(out_dir, tuple(OUTPUT_NAMES.values()) + (DEMO_PLAN,), force=force)
     (progress or (lambda _m: None))("copying the demo plan (invented data)")
     created_dir = not out.exists()
     out.mkdir(parents=True, exist_ok=True)
-    plan_path = write_atomic(out / DEMO_PLAN, shipped_demo_plan_path().read_bytes(), force=force)
+    plan_path = write_atomic(out / DEMO_PLAN, shipped_demo_plan_path(SHIPPED_DEMO_RUN_PLAN).read_bytes(), force=force)
     try:
         run = run_review(plan_path, DEMO_ROBOT, settings, out, force=True, progress=progress, created=created,
                          sweep=sweep, jobs=jobs)

@@ -33,6 +33,8 @@ def identity_lines(review: Review, command: str) -> list[str]:
     scaling = getattr(plan, "scaling", None)
     if scaling is not None:
         out.append(f"  {scaling.describe()}")
+    if review.gait:
+        out.append(f"  biped, legs {' and '.join(robot.legs)}: {review.gait}")
     if review.cases:
         out.append(f"  winding temperature: {review.cases[0].thermal.describe()}")
     out.extend(f"  Warning: {w}" for w in review.warnings)

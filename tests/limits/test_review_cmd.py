@@ -184,6 +184,13 @@ def test_demo_review(tmp_path, capsys):
 
     assert doc["plan_sha256"] == hashlib.sha256((out / "demo-plan.json").read_bytes()).hexdigest()
     # the review reviews exactly the shipped example plan's bytes, whatever SciPy the machine has
-    examples = Path(__file__).resolve().parents[2] / "examples" / "demo-hop-plan.json"
+    examples = Path(__file__).resolve().parents[2] / "examples" / "demo-run-plan.json"
     assert doc["plan_sha256"] == hashlib.sha256(examples.read_bytes()).hexdigest()
-    assert "invented" in capsys.readouterr().out
+    # the demo is a biped running with alternating legs: both legs' joints are reviewed and the gait is shown
+    assert doc["legs"] == ["left", "right"] and doc["gait"] == "alternating legs, left first"
+    header = (out / "targets.csv").read_text().splitlines()[1].split(",")
+    for name in ("left_hip", "left_knee", "right_hip", "right_knee"):
+        assert f"{name}_position_rad" in header and f"{name}_current_a" in header
+    assert "left_phase" in header and "right_phase" in header
+    printed = capsys.readouterr().out
+    assert "invented" in printed and "alternating legs, left first" in printed

@@ -174,6 +174,37 @@ def _dt(time_s: np.ndarray) -> float:
     return float(np.median(np.diff(time_s))) if time_s.size > 1 else 0.0
 
 
+STANCE_FILL = "#d4d4d4"   # greys: they stay apart in greyscale and under the hatched flagged spans
+SWING_FILL = "#efefef"
+
+
+def leg_phase_masks(traj):
+    """name -> (stance mask, generated-swing mask or None) of the joint's leg: for a biped the leg named
+    by the joint's '<leg>_' prefix, for one leg the plan's stance."""
+    legs = tuple(getattr(traj, "legs", ()) or ())
+
+    def masks(name: str):
+        for k, leg in enumerate(legs):
+            if name.startswith(leg + "_") and traj.leg_contact is not None:
+                gen = None if traj.leg_generated is None else np.asarray(traj.leg_generated[:, k], dtype=bool)
+                return np.asarray(traj.leg_contact[:, k], dtype=bool), gen
+        return np.asarray(traj.stance, dtype=bool), None
+
+    return masks
+
+
+def _phase_bands(ax, t: np.ndarray, stance, swing) -> None:
+    """Grey spans behind a panel: the leg's stance (darker) and its generated swing (lighter)."""
+    from legbridge.mapping.motor_side import phase_runs
+
+    for mask, color in ((stance, STANCE_FILL), (swing, SWING_FILL)):
+        if mask is None or not np.any(mask):
+            continue
+        for a, b in phase_runs(mask):  # runs of a phase: tens per plan
+            if mask[a]:
+                ax.axvspan(t[a], t[b - 1], facecolor=color, edgecolor="none", zorder=0)
+
+
 def case_joints_figure(review, robot) -> Figure:
     """Joint angle, speed and torque of one case against time, with limit bands and flagged spans.
 
@@ -193,8 +224,10 @@ def case_joints_figure(review, robot) -> Figure:
     dt = _dt(t)
     severities: set[str] = set()
     notes: list[str] = []
+    phase_masks = leg_phase_masks(traj)
     for j, name in enumerate(names):
         joint = robot.joint(name)
+        stance_mask, swing_mask = phase_masks(name)
         series = {"angle": traj.q[:, j], "speed": traj.qd[:, j], "torque": traj.tau[:, j]}
         vmax = max_joint_speed(joint).value
         tmax = max_joint_torque(joint).value
@@ -204,6 +237,7 @@ def case_joints_figure(review, robot) -> Figure:
         for r, (key, label) in enumerate(ROWS):
             ax = axes[r, j]
             _style_axes(ax)
+            _phase_bands(ax, t, stance_mask, swing_mask)
             lo, hi = bands[key]
             ax.axhline(lo, color=LIMIT, linewidth=1.8, linestyle="-")
             ax.axhline(hi, color=LIMIT, linewidth=1.8, linestyle="-")
@@ -252,6 +286,11 @@ def case_joints_figure(review, robot) -> Figure:
         Line2D([], [], color=LIMIT, linewidth=1.8, label="limit: stops, max speed, peak torque"),
         Line2D([], [], color=LIMIT, linewidth=0.9, linestyle="--", label="voltage-limited torque at planned speed"),
     ]
+    from matplotlib.patches import Patch
+
+    extra.append(Patch(facecolor=STANCE_FILL, edgecolor="none", label="stance (this joint's leg)"))
+    if getattr(traj, "legs", ()):
+        extra.append(Patch(facecolor=SWING_FILL, edgecolor="none", label="generated swing"))
     _legend_for_shading(fig, severities, extra)
     fig.suptitle(f"Case {review.case}: joint targets against the modelled limits", fontsize=10, color=INK)
     alt = (f"Joint angle, speed and torque of case {review.case} against time for joints {', '.join(names)}, "

@@ -104,6 +104,7 @@ def caution_identity(review) -> str:
         ("Robot", escape(robot.name)),
         ("Robot file", f"{escape(os.path.basename(robot.source) or robot.source or 'in memory')}<br><span class='small'>{escape(str(robot.source))}</span>"),
         ("Robot SHA-256", f"<span class='hash'>{escape(robot.sha256)}</span>"),
+        *([("Gait (biped)", escape(review.gait))] if review.gait else []),
         ("Cases", f"{len(plan.cases)}: {escape(', '.join(plan.case_names))}"),
         ("legbridge version", escape(version)),
         ("Software versions", escape(", ".join(f"{k} {v}" for k, v in review.provenance.items()
