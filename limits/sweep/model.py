@@ -103,6 +103,7 @@ class SimSetup:
     duration_s: float
     rate_hz: float
     flight_swing: str = "whole-flight"
+    gait: str | None = None
 
 
 def setup_from_plan(plan: Plan) -> SimSetup:
@@ -133,7 +134,8 @@ def setup_from_plan(plan: Plan) -> SimSetup:
     if swing not in FLIGHT_SWINGS:
         raise SweepInputError(key="metadata.flight_swing", path=plan.path, expected=f"one of {list(FLIGHT_SWINGS)}",
                               found=swing)
-    return SimSetup(params, policy, apex, float(duration), float(rate), swing)
+    gait = meta.get("gait")
+    return SimSetup(params, policy, apex, float(duration), float(rate), swing, None if gait is None else str(gait))
 
 
 @dataclass(frozen=True)
@@ -170,7 +172,9 @@ class OffsetTask:
 class OffsetResult:
     """What one offset gave. Equality ignores the trajectory and the timings (results are deterministic).
 
-    status: 'completed' or 'fell'; fall_reason: the simulator's reason or None; end_time_s [s]
+    status: 'completed', 'fell' or (a biped) 'tripped': a swing foot reached the ground before its
+        touchdown (limits.sweep.runner.trip_of; the offset is still checked); fall_reason: the
+        simulator's reason, or the trip's, or None; end_time_s [s]
     apex_time_s, apex_z_m, apex_vx_m_s: every apex, the initial one first [s, m, m/s]
     verdict: a limits.verdict.Verdict, or NOT_CHECKED when the reduced model fell
     worst: ((limit, highest utilisation over joints and samples), ...) sorted by limit name
@@ -301,6 +305,8 @@ class SweepWindow:
 
 def closing_end(r: OffsetResult) -> WindowEnd:
     """Why an offset is not within: a fall, a limit (the highest utilisation), or a finding."""
+    if r.status == "tripped":
+        return WindowEnd(END_FALL, r.offset_m, "", "", math.nan, f"tripped at {r.offset_m:+.4f} m ({r.fall_reason})")
     if not r.completed:
         return WindowEnd(END_FALL, r.offset_m, "", "", math.nan,
                          f"fell at {r.offset_m:+.4f} m ({r.fall_reason or 'no reason given'}, t = {r.end_time_s:.3f} s)")

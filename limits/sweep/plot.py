@@ -62,13 +62,17 @@ def plot_sweep(result, *, title: str | None = None) -> Figure:
         if over.any():
             ax.plot(x[over], np.full(int(over.sum()), 100.0 * top), linestyle="none", marker="^", markersize=7,
                     color=INK, zorder=4)
-    fell = np.array([not r.completed for r in result.offsets])
+    fell = np.array([r.status == "fell" for r in result.offsets])
+    tripped = np.array([r.status == "tripped" for r in result.offsets])
     noeval = np.array([r.completed and (r.verdict == Verdict.NOT_EVALUATED or not r.checked) for r in result.offsets])
     if fell.any():
         for xv in x[fell]:
             ax.axvline(xv, color=INK, linestyle=":", linewidth=1.0, zorder=2)
         ax.plot(x[fell], np.zeros(int(fell.sum())), linestyle="none", marker="x", markersize=9, markeredgewidth=2,
                 color=INK, label="reduced model fell", zorder=5)
+    if tripped.any():
+        ax.plot(x[tripped], np.zeros(int(tripped.sum())), linestyle="none", marker="P", markersize=9,
+                color=INK, label="swing foot tripped (biped)", zorder=5)
     if noeval.any():
         ax.plot(x[noeval], np.zeros(int(noeval.sum())), linestyle="none", marker="v", markersize=8,
                 color=INK, label="could not be evaluated", zorder=5)

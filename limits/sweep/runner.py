@@ -89,8 +89,29 @@ def _checked_fields(review, qps_run: bool) -> dict:
     }
 
 
+def trip_of(traj) -> dict:
+    """A biped's trip, as OffsetResult fields: the first generated-swing sample whose foot is more than
+    limits.checks.swing_clearance.GROUND_TOL_M below the case's ground (the swing foot reaching the
+    ground before its touchdown): {'status': 'tripped', 'fall_reason': ...}; {} for none (or one leg)."""
+    import numpy as np
+
+    from legbridge.limits.checks.swing_clearance import GROUND_TOL_M
+
+    legs = getattr(traj, "legs", ())
+    if not legs or traj.foot_height_m is None or traj.leg_generated is None:
+        return {}
+    low = np.asarray(traj.leg_generated, dtype=bool) & (np.asarray(traj.foot_height_m, dtype=float) < -GROUND_TOL_M)
+    if not low.any():
+        return {}
+    i, k = np.argwhere(low)[0]
+    return {"status": "tripped", "fall_reason": f"{legs[k]} swing foot {1e3 * -float(traj.foot_height_m[i, k]):.3g} mm "
+                                                f"below the ground at t = {float(traj.time_s[i]):.3f} s, before its touchdown"}
+
+
 def run_offset(task: OffsetTask) -> OffsetResult:
-    """The work unit: simulate one offset; if it completes, translate and check it like `legbridge check`.
+    """The work unit: simulate one offset; if it completes, translate and check it like `legbridge check`;
+    on a biped, a swing foot reaching the ground before its touchdown is a reduced-model outcome of its
+    own, 'tripped' (trip_of), beside a fall, and the offset is still checked.
 
     A translation that fails on a completed case is a finding (verdict 'not_evaluated'), never a pass.
     """
@@ -112,12 +133,13 @@ def run_offset(task: OffsetTask) -> OffsetResult:
     try:
         one = Plan(path=f"<sweep offset {task.offset_m:+.4f} m>", sha256="", cases=(sim.trajectory,), metadata={})
         (traj,) = prepare(one, robot, rate_hz=task.settings.rate_hz, leg_model=cached_leg_model(robot),
-                           gait=task.settings.gait).trajectories
+                           gait=task.settings.gait or s.gait).trajectories
     except LegbridgeError as exc:
         t2 = time.perf_counter()
         return replace(base, verdict=Verdict.NOT_EVALUATED, findings=(f"translation failed: {exc}",),
                        timing_s=(t1 - t0, t2 - t1, 0.0))
     t2 = time.perf_counter()
+    base = replace(base, **trip_of(traj))
     settings = task.settings
     if task.qps != QPS_ALL and settings.run_qps:
         review = check_case(traj, robot, replace(settings, run_qps=False))

@@ -3,7 +3,7 @@
 rename); an existing file is replaced only with ``force``.
 
 CSV columns (units in the names): plan, plan_sha256, robot, robot_sha256, offset_m, case, outcome
-('completed' / 'fell'), fall_reason, end_time_s, n_apex, apex_rms_dz_m, apex_rms_dvx_m_s,
+('completed' / 'fell' / 'tripped': a biped's swing foot reached the ground before its touchdown), fall_reason, end_time_s, n_apex, apex_rms_dz_m, apex_rms_dvx_m_s,
 apex_final_dz_m, apex_final_dvx_m_s, verdict ('within', 'near', 'exceeds', 'not_evaluated',
 'not_checked'), within (completed within the modelled limits: 1/0), in_window (1/0), worst_limit,
 worst_joint, worst_utilisation, n_exceeds, n_near, n_findings, qps_run (1/0), then

@@ -76,3 +76,31 @@ def test_shipped_demo_plan_equals_the_simulator_at_solver_tolerance():
     shipped = shipped_demo_plan()
     assert Path(shipped.path) == shipped_demo_plan_path()
     assert_same_plan_at_solver_tolerance(shipped, demo_plan(), "shipped_demo_plan()")
+
+
+def test_shipped_running_plan_matches_the_simulator_and_its_package_copy():
+    from legbridge.mapping.slip.demo import SHIPPED_DEMO_RUN_PLAN, demo_run_plan, shipped_demo_run_plan
+
+    path = shipped_demo_plan_path(SHIPPED_DEMO_RUN_PLAN)
+    assert path.read_bytes() == (EXAMPLES / "demo-run-plan.json").read_bytes()
+    shipped = shipped_demo_run_plan()
+    assert shipped.metadata["gait"] == "alternating" and shipped.metadata["flight_swing"] == "policy"
+    assert_same_plan_at_solver_tolerance(shipped, demo_run_plan(), "shipped_demo_run_plan()")
+
+
+def test_running_plan_flights_follow_the_policy_line():
+    # The demo policy retracts the leg at 3 rad/s from 0.457 rad at the apex, down to -0.3 rad
+    # (legbridge.mapping.slip.demo.demo_policy). With flight_swing='policy' the flight leg angle is that
+    # policy after the apex and its tangent line before it: for a linear policy one straight line, slope
+    # -3 rad/s, through 0.457 rad at the apex (hand arithmetic), in every flight of every case.
+    from legbridge.mapping.slip.demo import demo_run_plan
+
+    plan = demo_run_plan((0.0, 0.03))
+    for c in plan.cases:
+        t, a, st = np.asarray(c.time_s), np.asarray(c.leg_angle_rad), np.asarray(c.stance)
+        flight_pairs = ~st[1:] & ~st[:-1] & (a[1:] > -0.3 + 1e-9) & (a[:-1] > -0.3 + 1e-9)
+        slope = np.diff(a) / np.diff(t)
+        assert flight_pairs.sum() > 100
+        np.testing.assert_allclose(slope[flight_pairs], -3.0, rtol=0, atol=1e-6, err_msg=c.name)
+        apex = np.argmax(np.where(~st, np.asarray(c.body_z_m), -np.inf))  # the highest flight sample
+        assert abs(a[apex] - 0.457) <= 3.0 * float(t[1] - t[0]) + 1e-9

@@ -282,7 +282,8 @@ def sweep(result) -> str:
                  ("RMS apex height error [m]", "num"), ("RMS apex speed error [m/s]", "num")], header=True)
     body = []
     for r, e in zip(result.offsets, result.apex_errors):
-        outcome = "completed" if r.completed else f"fell at {r.end_time_s:.3f} s ({escape(r.fall_reason or '')})"
+        outcome = ("completed" if r.completed else f"tripped: {escape(r.fall_reason or '')}" if r.status == "tripped"
+                   else f"fell at {r.end_time_s:.3f} s ({escape(r.fall_reason or '')})")
         verdict = Verdict(r.verdict).words if r.checked else "not checked (fell)"
         css = Verdict(r.verdict).css_class if r.checked else ""
         body.append(_row([(f"{r.offset_m:+.4f}", "num"), outcome, (escape(verdict), f"verdict {css}"),
