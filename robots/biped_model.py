@@ -9,6 +9,12 @@ down.
 
 The one-leg model (robots.leg_model.build_leg_model) still serves the inverse kinematics of each
 leg: a leg's joint angles depend only on its hip-to-foot vector, the same for either leg.
+
+A URDF biped (robot.urdf with leg_chains) is built by robots.urdf_reader.build_planar_biped_from_urdf:
+the same base, the body (everything rigid with the URDF root once the other joints are locked) at its
+centre of mass, both URDF chains with joints renamed '<leg>_<joint>' and their own URDF inertias,
+frames '<leg>_foot' and 'hip' (the left chain's first joint, x and z). Its one-leg model is the left
+chain's (robots.urdf_reader.build_urdf_leg_model).
 """
 
 from __future__ import annotations
@@ -56,14 +62,12 @@ class BipedModel:
 
 
 def build_biped_model(robot: Robot) -> BipedModel:
-    """Pinocchio model of a biped described by one native TOML leg used for both legs."""
+    """Pinocchio model of a biped: one native TOML leg used for both legs, or a URDF naming both chains."""
     if not robot.is_biped:
         raise RobotFileError(f"robot '{robot.name}' describes one leg", path=robot.source or None, key="robot.legs",
                              expected='["left", "right"] for a biped', found=list(robot.legs))
     if robot.urdf is not None:
-        raise RobotFileError("a URDF biped is not supported yet", path=robot.source or None, key="robot.legs",
-                             expected="a native TOML leg description ([[segments]]) used for both legs",
-                             found="a [urdf] section")
+        return _urdf_biped_model(robot)
     ident = pin.SE3.Identity()
     i_body = robot.body_pitch_inertia_kgm2
     model, jp = planar_base(robot.name, pin.Inertia(robot.body_mass_kg, np.zeros(3), np.diag([i_body, i_body, 1e-3 * i_body])))
@@ -83,6 +87,23 @@ def build_biped_model(robot: Robot) -> BipedModel:
             names.append(name)
             parent, placement = j, pin.SE3(np.eye(3), np.array([0.0, 0.0, -seg.length_m]))
         feet[leg] = model.addFrame(pin.Frame(f"{leg}_{FOOT_FRAME}", parent, placement, pin.FrameType.OP_FRAME))
+    return _wrap(robot, model, tuple(names), feet, model.getFrameId(HIP_FRAME, pin.FrameType.OP_FRAME))
+
+
+def _urdf_biped_model(robot: Robot) -> BipedModel:
+    from .urdf_reader import build_urdf_biped_parts
+
+    if not robot.urdf.leg_chains:
+        raise RobotFileError("a URDF biped names both legs' chains", path=robot.source or None, key="urdf.legs",
+                             expected="[urdf.legs.left] and [urdf.legs.right]", found="one chain ([urdf] foot_link)")
+    parts = build_urdf_biped_parts(robot)
+    if parts.joint_names != robot.limb_joint_names:  # the trajectory's order is the Robot's
+        raise RobotFileError("the URDF biped model's joints are not the robot's", path=robot.source or None,
+                             key="joints", expected=str(list(robot.limb_joint_names)), found=list(parts.joint_names))
+    return _wrap(robot, parts.model, parts.joint_names, parts.foot_frame_ids, parts.hip_frame_id)
+
+
+def _wrap(robot: Robot, model: pin.Model, names: tuple[str, ...], feet: dict, hip_frame_id: int) -> BipedModel:
     jid = [model.getJointId(n) for n in names]
     base = [model.getJointId(n) for n in BASE_JOINTS]
     return BipedModel(
@@ -90,7 +111,7 @@ def build_biped_model(robot: Robot) -> BipedModel:
         q_index=np.array([model.joints[i].idx_q for i in jid]), v_index=np.array([model.joints[i].idx_v for i in jid]),
         base_q_index=np.array([model.joints[i].idx_q for i in base]),
         base_v_index=np.array([model.joints[i].idx_v for i in base]),
-        foot_frame_ids=feet, hip_frame_id=model.getFrameId(HIP_FRAME, pin.FrameType.OP_FRAME),
+        foot_frame_ids=feet, hip_frame_id=hip_frame_id,
         leg=build_leg_model(robot),
     )
 

@@ -29,7 +29,7 @@ class LegModel:
     joint_names: leg joints hip to foot; q_index / v_index: their entries in q and v
     base_q_index / base_v_index: (x, z, pitch) entries
     foot_frame_id, hip_frame_id: Pinocchio frame ids
-    link_lengths_m: distances hip->knee, knee->(ankle->)foot in the zero pose [m]
+    link_lengths_m: distances hip->knee, knee->(ankle->)foot in the zero pose, in the x-z plane [m]
     """
 
     model: pin.Model
@@ -84,7 +84,8 @@ def index_model(model: pin.Model, leg_joints: tuple[str, ...], foot_frame: str, 
     data = model.createData()
     pin.framesForwardKinematics(model, data, pin.neutral(model))
     pts = [data.oMi[jid(n)].translation for n in leg_joints] + [data.oMf[foot_id].translation]
-    lengths = tuple(float(np.linalg.norm(b - a)) for a, b in zip(pts[:-1], pts[1:]))
+    # in the sagittal plane (x, z): a sideways (y) offset between joints is no reach
+    lengths = tuple(float(np.hypot(b[0] - a[0], b[2] - a[2])) for a, b in zip(pts[:-1], pts[1:]))
     return LegModel(model, tuple(leg_joints), q_index, v_index, bq, bv, foot_id, hip_id, lengths)
 
 

@@ -153,6 +153,9 @@ class UrdfSource:
     base_link: the URDF root link (the body)
     body_mass_kg, body_pitch_inertia_kgm2: values from the robot TOML that replace the URDF's body
         inertia (None: the body inertia is that of the links above the hip in the URDF)
+    leg_chains: a biped's chains, one (leg, leg_joints, foot_link, foot_offset_m) per leg; () for
+        one leg. leg_joints, foot_frame and foot_offset_m above are then the first (left) chain's
+    leg_mass_kg: the mass of one leg's chain links [kg] (filled in by the reader)
     """
 
     urdf_path: str
@@ -165,6 +168,8 @@ class UrdfSource:
     body_mass_kg: float | None = None
     body_pitch_inertia_kgm2: float | None = None
     sha256: str = ""
+    leg_chains: tuple = ()
+    leg_mass_kg: float | None = None
 
 
 @dataclass(frozen=True)
@@ -241,7 +246,9 @@ class Robot:
 
     @property
     def leg_mass_kg(self) -> float:
-        """Mass of the leg segments [kg] (0 for URDF legs; the Pinocchio model holds their inertia)."""
+        """Mass of one leg [kg]: its segments, or a URDF leg's chain links."""
+        if not self.segments and self.urdf is not None and self.urdf.leg_mass_kg is not None:
+            return float(self.urdf.leg_mass_kg)
         return float(sum(s.mass_kg for s in self.segments))
 
     @property

@@ -32,7 +32,7 @@ def register(subparsers) -> None:
     exp.add_argument("file", metavar="FILE", help="robot TOML file or bundled robot name")
     add_output(exp, "URDF file to write", required=True)
     exp.set_defaults(func=run_export)
-    lst = sub.add_parser("list", help="list the bundled robots (invented examples)")
+    lst = sub.add_parser("list", help="list the bundled example robots (actuator data invented)")
     lst.set_defaults(func=run_list)
 
 

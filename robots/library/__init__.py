@@ -1,4 +1,6 @@
-"""Invented example legs shipped with legbridge (package data). No real robot is described here."""
+"""Example robots shipped with legbridge (package data). Every number in them is invented, except the
+geometry and inertia of bolt-biped, which come from a public robot description (see bolt-biped.toml):
+its actuator data are invented too. None describes the actuators of a real robot."""
 
 from importlib import resources
 from pathlib import Path
