@@ -161,3 +161,28 @@ def test_an_unknown_or_enormous_current_fails_closed(example_robot, make_traj):
     cur[10, 1] = 1e6
     th = simulate(replace(traj, current_a=cur), example_robot)
     assert th.runaway["knee"] and np.all(np.isinf(th.phase_temp_c[:, 1]))
+
+
+def test_two_node_sample_maps_equal_scipy_expm_of_the_augmented_matrix():
+    # Reference: scipy.linalg.expm of the augmented matrix [[B dt, u dt], [0, 0]] (Van Loan's block
+    # form of the zero-order-hold discretisation). The closed form (Sylvester's formula) must agree to
+    # 1e-12 relative for currents from zero to near runaway and for steps from 1e-5 s to 10 s.
+    import scipy.linalg
+
+    from legbridge.limits.checks.thermal import _system, sample_maps
+    from legbridge.robots.robot import ThermalModel
+
+    th = ThermalModel(winding_resistance_k_per_w=0.6, winding_time_constant_s=90.0, max_winding_temp_c=130.0,
+                      ambient_temp_c=25.0, housing_resistance_k_per_w=0.45, housing_time_constant_s=1200.0)
+    current = np.array([0.0, 1.0, 10.0, 28.0, 60.0, 120.0, 250.0])
+    for dt in (1e-5, 1e-3, 0.1, 10.0):
+        m, v = sample_maps(th, 0.09, current, dt)
+        a0, cw = _system(th)
+        for k, i in enumerate(current):
+            aug = np.zeros((3, 3))
+            aug[:2, :2] = a0 * dt
+            aug[0, 0] += th.resistance_temp_coefficient_per_k * 0.09 * i * i / cw * dt
+            aug[0, 2] = 0.09 * i * i * th.resistance_factor(th.ambient_temp_c) / cw * dt
+            e = scipy.linalg.expm(aug)
+            np.testing.assert_allclose(m[k], e[:2, :2], rtol=1e-12, atol=1e-15, err_msg=f"dt {dt}, {i} A")
+            np.testing.assert_allclose(v[k], e[:2, 2], rtol=1e-11, atol=1e-15, err_msg=f"dt {dt}, {i} A")
