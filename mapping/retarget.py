@@ -45,12 +45,14 @@ def joint_mass_matrices(leg: LegModel, q: np.ndarray, base_pitch=None) -> np.nda
     n, nj = q.shape
     out = np.empty((n, nj, nj))
     qf = pin.neutral(model)
-    idx = np.asarray(leg.v_index)
+    block = np.ix_(np.asarray(leg.v_index), np.asarray(leg.v_index))  # built once, not per sample
+    q_index, pitch_index = np.asarray(leg.q_index), int(leg.base_q_index[2])
+    crba = pin.crba
     for k in range(n):  # CRBA has no batched form
-        qf[leg.q_index] = q[k]
+        qf[q_index] = q[k]
         if base_pitch is not None:
-            qf[leg.base_q_index[2]] = base_pitch[k]
-        out[k] = pin.crba(model, data, qf)[np.ix_(idx, idx)]
+            qf[pitch_index] = base_pitch[k]
+        out[k] = crba(model, data, qf)[block]
     return out
 
 

@@ -180,6 +180,18 @@ class _Period:
                 k >>= 1
             return total @ self.gamma
 
+    def starts(self, js) -> np.ndarray:
+        """start(j) for many j at once, (len(js), d): Phi^j from its eigen-decomposition (real, distinct
+        eigenvalues: a thermal network's), one start() each otherwise (runaway, or a defective Phi)."""
+        js = np.asarray(js, dtype=int)
+        if not self.runaway:
+            w, v = np.linalg.eig(self.phi)
+            if np.isrealobj(w) and np.linalg.cond(v) < 1e8:
+                vi = np.linalg.inv(v)
+                powers = np.einsum("ik,jk,kl->jil", v, np.power(w[None, :], js[:, None]), vi)  # Phi^j
+                return (self.eye[None] - powers) @ self.x_steady
+        return np.array([self.start(int(j)) for j in js])
+
     def rise(self, x_start) -> np.ndarray:
         """Winding rise [K] at every sample k = 0..n of a repetition starting at ``x_start``."""
         return np.einsum("kj,j->k", self.P[:, 0, :], x_start) + self.p[:, 0]
@@ -276,6 +288,18 @@ def simulate(traj, robot, duration_s: float | None = None) -> ThermalResult:
                          steady_peak_c=steady_peak, rms_current_a=rms, period_s=period)
 
 
+def _hottest(per: _Period, x0: np.ndarray, block: int = 4_000_000) -> np.ndarray:
+    """The hottest winding rise [K] of a repetition from each start state x0 (J, d): the samples'
+    rises are affine in x0, evaluated in blocks of repetitions (memory bounded by ``block`` numbers)."""
+    coef, off = per.P[:, 0, :], per.p[:, 0]                       # (n + 1, d), (n + 1,)
+    out = np.empty(x0.shape[0])
+    step = max(1, block // max(1, coef.shape[0]))
+    with np.errstate(invalid="ignore", over="ignore"):             # runaway: inf and NaN count as reached
+        for a in range(0, x0.shape[0], step):                      # a few blocks of repetitions
+            out[a:a + step] = np.max(x0[a:a + step] @ coef.T + off[None, :], axis=1)
+    return out
+
+
 def _display(periods, amb, period: float, dt: float, m: int | None, ttl: dict):
     """(time (p,), winding temperature (p, j)) over the whole assumed test for the report: at most
     DISPLAY_POINTS repetitions, each drawn at its hottest sample (finite test: up to its end;
@@ -299,15 +323,15 @@ def _display(periods, amb, period: float, dt: float, m: int | None, ttl: dict):
         if per is None:
             temps[:, c] = np.nan
             continue
-        for r, j in enumerate(js):  # one O(n) evaluation per shown repetition
-            if j == 0:
-                temps[r, c] = amb[c]
-                continue
-            x0 = per.start(int(j) - 1)
-            rise = per.rise(x0)
-            if m is not None and j * period > m * dt:  # the last, partial repetition ends with the test
-                rise = rise[: m - (int(j) - 1) * (len(rise) - 1) + 1]
-            temps[r, c] = amb[c] + float(np.max(rise))
+        x0 = per.starts(np.maximum(js - 1, 0))                     # (J, d): every shown repetition at once
+        peak = _hottest(per, x0)
+        temps[:, c] = amb[c] + peak
+        temps[js == 0, c] = amb[c]
+        if m is not None:  # the last, partial repetition ends with the test
+            for r in np.flatnonzero(js * period > m * dt):
+                j = int(js[r])
+                rise = per.rise(x0[r])[: m - (j - 1) * (per.P.shape[0] - 1) + 1]
+                temps[r, c] = amb[c] + float(np.max(rise))
     return time.astype(float), temps
 
 

@@ -186,3 +186,19 @@ def test_two_node_sample_maps_equal_scipy_expm_of_the_augmented_matrix():
             e = scipy.linalg.expm(aug)
             np.testing.assert_allclose(m[k], e[:2, :2], rtol=1e-12, atol=1e-15, err_msg=f"dt {dt}, {i} A")
             np.testing.assert_allclose(v[k], e[:2, 2], rtol=1e-11, atol=1e-15, err_msg=f"dt {dt}, {i} A")
+
+
+def test_repetition_starts_at_once_equal_the_one_by_one_powers():
+    # Reference: numpy.linalg.matrix_power one repetition at a time (start()), against the
+    # eigen-decomposition used for many repetitions at once (starts()), to 1e-9 relative.
+    from legbridge.limits.checks import thermal as th
+    from legbridge.robots.robot import ThermalModel
+
+    tm = ThermalModel(winding_resistance_k_per_w=0.6, winding_time_constant_s=90.0, max_winding_temp_c=130.0,
+                      ambient_temp_c=25.0, housing_resistance_k_per_w=0.45, housing_time_constant_s=1200.0)
+    current = 20.0 + 10.0 * np.sin(np.linspace(0.0, 20.0, 2001))
+    per = th._Period(*th.prefix_maps(*th.sample_maps(tm, 0.09, current, 1e-3)))
+    js = np.array([0, 1, 2, 5, 17, 100, 1000, 5000])
+    one = np.array([per.start(int(j)) for j in js])
+    np.testing.assert_allclose(per.starts(js), one, rtol=1e-9, atol=1e-12)
+    np.testing.assert_allclose(th._hottest(per, one), [np.max(per.rise(x)) for x in one], rtol=1e-12)

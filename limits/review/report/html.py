@@ -22,17 +22,21 @@ def render_report(review) -> str:
     version = review.provenance.get("legbridge", "")
     created = review.created
     note = f'<p class="note">{escape(review.sweep_note)}</p>' if review.sweep is None and review.sweep_note else ""
+    from .plots import render_figures
+
+    figs = render_figures(review)  # every figure, drawn on the available cores
     body = "".join([
         sections.caution_identity(review),
         sections.verdicts(review),
-        sections.cases(review),
-        sections.torque_speed(review),
-        sections.thermal(review),
+        sections.cases(review, figs),
+        sections.torque_speed(review, figs),
+        sections.thermal(review, figs),
         sections.segments(review),
         sections.sweep(review.sweep) if review.sweep is not None else note,
         sections.signoff(review),
     ])
     name = os.path.basename(plan.path) or "plan"
+
     return (
         "<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">"
         "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">"

@@ -438,3 +438,57 @@ def thermal_figure(reviews, robot, duration_s: float | None) -> Figure:
     fig.suptitle("Winding temperature over the test duration", fontsize=10, color=INK)
     alt = "Winding temperature of each joint against time over the test duration, with its limit."
     return Figure("thermal", _png(fig), alt, (), tuple(notes))
+
+
+def figure_keys(review) -> list:
+    """Every figure of a review's report, as keys for figure_for: per case its joints and ground force,
+    per joint (both legs of a biped) the torque-speed plane, and the winding temperature."""
+    keys = [(kind, r.case) for r in review.cases for kind in ("joints", "force")]
+    keys += [("torque_speed", j.name) for j in review.robot.limb_joints]
+    return keys + [("thermal", "")]
+
+
+def figure_for(review, key) -> Figure:
+    """The report figure ``key`` (figure_keys) of ``review``."""
+    kind, arg = key
+    robot, settings = review.robot, review.settings
+    if kind == "joints":
+        return case_joints_figure(review.case(arg), robot)
+    if kind == "force":
+        return case_force_figure(review.case(arg), robot, settings.friction)
+    if kind == "torque_speed":
+        return torque_speed_figure(review.cases, robot, arg)
+    if kind == "thermal":
+        return thermal_figure(review.cases, robot, settings.duration_s)
+    raise KeyError(key)
+
+
+_FORKED_REVIEW = {}
+
+
+def _draw_in_child(key):
+    return key, figure_for(_FORKED_REVIEW["review"], key)
+
+
+def render_figures(review, jobs: int | None = None) -> dict:
+    """Every figure of the report, {key: Figure}. Drawing dominates the report's time and each figure is
+    independent, so they are drawn in ``jobs`` forked processes (default: the available cores, at most
+    one per figure; the review reaches them by fork, not by pickling). The figures do not depend on
+    the number of processes. One process when fork is not available or jobs is 1."""
+    import multiprocessing
+    import os
+
+    keys = figure_keys(review)
+    cores = len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else (os.cpu_count() or 1)
+    jobs = min(len(keys), cores if jobs is None else int(jobs))
+    if jobs <= 1 or "fork" not in multiprocessing.get_all_start_methods():
+        return {k: figure_for(review, k) for k in keys}
+    # the last figure is drawn here first: it loads the fonts and renderer once, before the fork, so
+    # the children inherit them instead of each loading them again
+    first = {keys[-1]: figure_for(review, keys[-1])}
+    _FORKED_REVIEW["review"] = review
+    try:
+        with multiprocessing.get_context("fork").Pool(jobs) as pool:
+            return dict(pool.map(_draw_in_child, keys[:-1], chunksize=1)) | first
+    finally:
+        _FORKED_REVIEW.clear()

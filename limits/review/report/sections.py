@@ -164,13 +164,20 @@ def verdicts(review) -> str:
             f'<h3>Ranking, worst case first</h3><ol class="ranking">{order}</ol></section>')
 
 
-def cases(review) -> str:
+def _figure_of(review, key, figs):
+    """The figure ``key`` of ``review``: from ``figs`` (rendered ahead by plots.render_figures, on the
+    available cores) when there, else drawn now."""
+    got = (figs or {}).get(key)
+    return got if got is not None else plots.figure_for(review, key)
+
+
+def cases(review, figs=None) -> str:
     """Section 3: per case, the joint figure and the ground-force figure."""
     robot, settings = review.robot, review.settings
     parts = ['<section id="cases"><h2>3. Cases over time</h2>']
     for r in review.cases:
-        fj = plots.case_joints_figure(r, robot)
-        ff = plots.case_force_figure(r, robot, settings.friction)
+        fj = _figure_of(review, ("joints", r.case), figs)
+        ff = _figure_of(review, ("force", r.case), figs)
         findings = "".join(f'<p class="finding">Could not be evaluated: {escape(f)}</p>' for f in r.findings)
         res = r.trajectory.base_residual_summary()
         weight = robot.total_mass_kg * STANDARD_GRAVITY_M_S2
@@ -212,14 +219,14 @@ def cases(review) -> str:
     return "".join(parts)
 
 
-def torque_speed(review) -> str:
+def torque_speed(review, figs=None) -> str:
     """Section 4: per joint, the torque-speed plane with the envelope and every case."""
     reviews, robot = review.cases, review.robot
     from legbridge.robots.actuator_limits import max_joint_speed, max_joint_torque
 
     parts = ['<section id="torque-speed"><h2>4. Torque-speed plane per joint</h2>']
-    for j in robot.joints:
-        f = plots.torque_speed_figure(reviews, robot, j.name)
+    for j in robot.limb_joints:  # both legs' joints of a biped
+        f = _figure_of(review, ("torque_speed", j.name), figs)
         ms, mt = max_joint_speed(j), max_joint_torque(j)
         parts.append(f'<h3 id="joint-{slug(j.name)}">Joint {escape(j.name)}</h3>' + figure(
             f, f"Joint torque [N m] against joint speed [rad/s]. Solid outline: the voltage and drive-current envelope at steady "
@@ -229,10 +236,10 @@ def torque_speed(review) -> str:
     return "".join(parts)
 
 
-def thermal(review) -> str:
+def thermal(review, figs=None) -> str:
     """Section 5: winding temperature over the test duration against its limit."""
     reviews, robot, settings = review.cases, review.robot, review.settings
-    f = plots.thermal_figure(reviews, robot, settings.duration_s)
+    f = _figure_of(review, ("thermal", ""), figs)
     head = _row(["Case"] + [(f"{escape(j)}: time to limit [s]", "num") for j in robot.limb_joint_names], header=True)
     body = []
     for r in reviews:
