@@ -8,6 +8,8 @@ the modelled limits, 1 when a limit is exceeded or something could not be evalua
 
 from __future__ import annotations
 
+import sys
+
 
 from legbridge.limits.cli.options import add_check_options, add_output, add_robot, settings_from_args
 from legbridge.mapping.pipeline import prepare
@@ -32,7 +34,8 @@ def register(subparsers) -> None:
 
 def run(args) -> int:
     """Run ``legbridge check``; returns the exit status."""
-    from legbridge.limits.checks.case import check_plan
+    from legbridge.limits.checks.case import check_case
+    from legbridge.limits.cli.progress import StderrProgress
     from legbridge.limits.review.corrected_targets import check_marked_name, write_corrected_targets
     from legbridge.limits.review.json_doc import review_to_json, write_json
     from legbridge.limits.review.review import assemble_review
@@ -45,13 +48,23 @@ def run(args) -> int:
         check_marked_name(args.modified_targets)
     robot_path = resolve_robot(args.robot)
     check_outputs([args.output, args.modified_targets], inputs=[args.plan, robot_path], force=args.force)
-    prepared = prepare(args.plan, robot_path, rate_hz=settings.rate_hz, gait=settings.gait)
-    cases = check_plan(prepared.trajectories, prepared.robot, settings)
-    review = assemble_review(prepared.plan, prepared.robot, settings, cases, warnings=prepared.warnings)
-    paths = {}
-    if args.output:
-        paths["review"] = write_json(review_to_json(review), args.output, force=args.force)
-    if args.modified_targets:
-        paths["modified"] = write_corrected_targets(review, args.modified_targets, force=args.force)
+    progress = StderrProgress(sys.stderr, quiet=args.quiet)
+    try:
+        progress(f"reading and translating the plan at {settings.rate_hz:g} Hz")
+        prepared = prepare(args.plan, robot_path, rate_hz=settings.rate_hz, gait=settings.gait)
+        cases = []
+        for traj in prepared.trajectories:
+            progress(f"checking case {traj.case} ({traj.n_samples} samples, every limit and both QPs)")
+            cases.append(check_case(traj, prepared.robot, settings))
+        review = assemble_review(prepared.plan, prepared.robot, settings, tuple(cases), warnings=prepared.warnings)
+        paths = {}
+        if args.output:
+            progress("writing the review")
+            paths["review"] = write_json(review_to_json(review), args.output, force=args.force)
+        if args.modified_targets:
+            progress("writing the MODIFIED targets")
+            paths["modified"] = write_corrected_targets(review, args.modified_targets, force=args.force)
+    finally:
+        progress.close()
     print("\n".join(review_lines(review, command="check", paths=paths)))
     return review.exit_code

@@ -35,6 +35,9 @@ def add_check_options(p) -> None:
                    help="bipeds: least height of a swing foot above the ground over its generated swing [m] "
                         "(default 0.02, a stated choice)")
     add_gait(p)
+    from .progress import add_quiet
+
+    add_quiet(p)
 
 
 def add_gait(p) -> None:
@@ -98,17 +101,3 @@ def jobs_from_args(args):
     from legbridge.limits.sweep.runner import check_jobs
 
     return check_jobs(args.jobs)
-
-
-def progress_printer(stream, *, quiet: bool = False):
-    """One short line per stage on ``stream`` when it is a terminal, with the elapsed time; None otherwise."""
-    import time
-
-    if quiet or not getattr(stream, "isatty", lambda: False)():
-        return None
-    t0 = time.perf_counter()
-
-    def say(msg: str) -> None:
-        print(f"  [{time.perf_counter() - t0:5.1f} s] {msg}", file=stream, flush=True)
-
-    return say

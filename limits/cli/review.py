@@ -18,9 +18,9 @@ from legbridge.limits.cli.options import (
     add_robot,
     jobs_from_args,
     offsets_from_args,
-    progress_printer,
     settings_from_args,
 )
+from legbridge.limits.cli.progress import StderrProgress
 from legbridge.robots.errors import UsageError
 
 HELP = "translate, check and write the pre-test review (JSON, joint targets, HTML report)"
@@ -60,7 +60,18 @@ def run(args: argparse.Namespace) -> int:
     settings = settings_from_args(args)
     jobs = jobs_from_args(args)
     sweep = None if args.no_sweep else (offsets_from_args(args) or SWEEP_AUTO)
-    progress = progress_printer(sys.stderr)
+    progress = StderrProgress(sys.stderr, quiet=args.quiet)
+    try:
+        run_ = _run(args, settings, sweep, jobs, progress)
+    finally:
+        progress.close()
+    print("\n".join(review_lines(run_.review, command="review", paths=run_.paths)))
+    return run_.exit_code
+
+
+def _run(args, settings, sweep, jobs, progress):
+    from legbridge.limits.review.run import run_demo_review, run_review
+
     if args.demo:
         run_ = run_demo_review(settings, args.output, force=args.force, progress=progress, sweep=sweep, jobs=jobs)
     else:
@@ -68,5 +79,4 @@ def run(args: argparse.Namespace) -> int:
 
         run_ = run_review(args.plan, resolve_robot(args.robot), settings, args.output, force=args.force,
                           progress=progress, sweep=sweep, jobs=jobs)
-    print("\n".join(review_lines(run_.review, command="review", paths=run_.paths)))
-    return run_.exit_code
+    return run_

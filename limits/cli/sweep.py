@@ -17,6 +17,7 @@ import sys
 import time
 from pathlib import Path
 
+from legbridge.limits.cli.progress import StderrProgress
 from legbridge.limits.cli.options import (
     add_check_options,
     add_output,
@@ -60,23 +61,6 @@ def plot_paths(path: str, n: int) -> list[Path]:
     """OUT for one pair; OUT, OUT-2, OUT-3 ... (same suffix) for several."""
     p = Path(path)
     return [p] + [p.with_name(f"{p.stem}-{k}{p.suffix}") for k in range(2, n + 1)]
-
-
-def _progress(stream):
-    t0 = time.perf_counter()
-    tty = getattr(stream, "isatty", lambda: False)()
-    last = [-1]
-
-    def say(done: int, total: int) -> None:
-        pct = int(100 * done / total)
-        if tty:
-            end = "\n" if done == total else ""
-            print(f"\r  sweep: {done}/{total} offsets ({time.perf_counter() - t0:.1f} s)", end=end, file=stream, flush=True)
-        elif pct // 25 != last[0] or done == total:  # a line at 0/25/50/75/100 %
-            last[0] = pct // 25
-            print(f"  sweep: {done}/{total} offsets ({time.perf_counter() - t0:.1f} s)", file=stream, flush=True)
-
-    return say
 
 
 def _m(v: float) -> str:
@@ -174,8 +158,12 @@ def _run(args, settings, offsets, jobs, n_pairs, robot_paths) -> int:
     jobs_used = jobs or os.cpu_count() or 1
     label = f"Dask scheduler {args.scheduler}" if args.scheduler else f"{jobs_used} local job(s)"
     t0 = time.perf_counter()
-    sweeps = run_sweep(args.plan, robot_paths, offsets, settings=settings, jobs=jobs_used, scheduler=args.scheduler,
-                       progress=_progress(sys.stderr), qps=args.qps)
+    progress = StderrProgress(sys.stderr, quiet=args.quiet)
+    try:
+        sweeps = run_sweep(args.plan, robot_paths, offsets, settings=settings, jobs=jobs_used, scheduler=args.scheduler,
+                           progress=progress.count, qps=args.qps)
+    finally:
+        progress.close()
     elapsed = time.perf_counter() - t0
     n = sum(len(s.offsets) for s in sweeps)
     for line in summary_lines(sweeps, label):

@@ -12,10 +12,12 @@ reviews them; they are listed in the summary and counted in the file's metadata.
 
 from __future__ import annotations
 
+import sys
 from pathlib import Path
 
 from legbridge.limits.cautions import caution_lines
 from legbridge.limits.cli.options import add_gait, add_output, add_robot
+from legbridge.limits.cli.progress import StderrProgress, add_quiet
 
 
 def register(subparsers) -> None:
@@ -26,6 +28,7 @@ def register(subparsers) -> None:
     p.add_argument("--rate", type=float, default=1000.0, metavar="HZ", help="controller rate in Hz (default 1000)")
     p.add_argument("--case", action="append", metavar="NAME", help="translate only this case (repeatable)")
     add_gait(p)
+    add_quiet(p)
     add_output(p, "targets file to write (.csv, .npz, .json)", required=True)
     p.set_defaults(func=run)
 
@@ -69,8 +72,14 @@ def run(args) -> int:
     rate = check_rate(args.rate)
     robot_path = resolve_robot(args.robot)
     (out,) = check_outputs([args.output], inputs=[args.plan, robot_path], force=args.force)
-    prepared = prepare(args.plan, robot_path, rate_hz=rate, cases=args.case, gait=getattr(args, 'gait', None))
-    write_targets(prepared.trajectories, out, plan=prepared.plan, robot=prepared.robot, rate_hz=rate, force=args.force)
+    progress = StderrProgress(sys.stderr, quiet=args.quiet)
+    try:
+        progress(f"reading and translating the plan at {rate:g} Hz")
+        prepared = prepare(args.plan, robot_path, rate_hz=rate, cases=args.case, gait=args.gait)
+        progress(f"writing {out.name}")
+        write_targets(prepared.trajectories, out, plan=prepared.plan, robot=prepared.robot, rate_hz=rate, force=args.force)
+    finally:
+        progress.close()
     print("\n".join(summary_lines(prepared.plan, prepared.trajectories, out, rate, prepared.warnings)))
     print()
     print("\n".join(caution_lines()))

@@ -115,7 +115,8 @@ def _sweep(prepared, settings, sweep, jobs, say):
 
     offsets = None if sweep == SWEEP_AUTO else tuple(sweep)
     say("sweeping the ground height (re-simulating the plan's open-loop policy)")
-    (result,) = run_sweep([plan], [prepared.robot], offsets, settings=settings, jobs=jobs)
+    counter = getattr(say, "count", None)  # a progress that counts (cli.progress.StderrProgress)
+    (result,) = run_sweep([plan], [prepared.robot], offsets, settings=settings, jobs=jobs, progress=counter)
     return result, ""
 
 

@@ -213,3 +213,14 @@ def test_case_ids_differ_for_cases_that_differ_only_in_sign():
     names = ["ground-0.06m", "ground+0.06m", "ground_0.06m", "ground 0.06m", "nominal"]
     assert len({slug(n) for n in names}) == len(names)
     assert all(c.isalnum() or c in "-_" for n in names for c in slug(n))
+
+
+def test_figures_do_not_depend_on_the_number_of_processes(reviewed):
+    # The same review drawn in one process and in two forked ones: byte-identical figures (the
+    # report must not depend on the number of workers; the reference is the one-process drawing).
+    review = reviewed[0] if isinstance(reviewed, tuple) else reviewed
+    one = plots.render_figures(review, jobs=1)
+    two = plots.render_figures(review, jobs=2)
+    assert list(one) == plots.figure_keys(review) and set(two) == set(one)
+    for key in one:
+        assert one[key].png == two[key].png, key

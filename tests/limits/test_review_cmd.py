@@ -141,7 +141,8 @@ def test_bad_input_exits_2_and_writes_nothing(tmp_path, capsys, three_case_plan,
     }[bad]
     assert main(args + ["-o", str(out)]) == 2
     err = capsys.readouterr().err
-    assert err.startswith("legbridge: error:") and "Traceback" not in err
+    # progress lines may come first (plain lines: stderr is not a terminal here); the error is one line, last
+    assert err.strip().splitlines()[-1].startswith("legbridge: error:") and "Traceback" not in err
     assert not out.exists()
 
 
@@ -194,3 +195,14 @@ def test_demo_review(tmp_path, capsys):
     assert "left_phase" in header and "right_phase" in header
     printed = capsys.readouterr().out
     assert "invented" in printed and "alternating legs, left first" in printed
+
+
+def test_quiet_prints_no_progress_and_plain_lines_otherwise(tmp_path, capsys, three_case_plan):
+    # stderr is not a terminal under pytest: one plain line per step, no carriage returns
+    main(["review", three_case_plan, "--robot", ROBOT, "-o", str(tmp_path / "a"), "--no-sweep"])
+    err = capsys.readouterr().err
+    lines = err.strip().splitlines()
+    assert any("checking case" in line for line in lines) and "\r" not in err
+    assert all(line.startswith("legbridge: [") for line in lines)
+    main(["review", three_case_plan, "--robot", ROBOT, "-o", str(tmp_path / "b"), "--no-sweep", "--quiet"])
+    assert capsys.readouterr().err == ""
