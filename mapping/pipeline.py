@@ -86,6 +86,66 @@ def actuator_jumps(plan) -> tuple[str, ...]:
     return tuple(out)
 
 
+BASE_MEMORY_B = 300e6
+"""What a run holds before any sample: the interpreter, NumPy, SciPy, Pinocchio, cvxpy [bytes]."""
+HELD_B_PER_SAMPLE_JOINT = 300.0
+"""Each translated sample of every case, per joint (targets, motor side, phase ends) [bytes]."""
+CHECK_B_PER_SAMPLE_JOINT = 1500.0
+"""The case being checked, per sample and joint (traces, thermal scan, both QPs, the recheck) [bytes].
+Both from tests/perf/bench_scale.py: 128,001 samples of the four-joint demo biped peaked at 1.02 GB."""
+MEMORY_SHARE = 0.8
+"""A request is refused when its estimate exceeds this share of the memory available."""
+
+
+def available_memory_bytes() -> float:
+    """Memory available to this process [bytes]: LEGBRIDGE_MEMORY_LIMIT_MB when set, else the
+    system's available memory (/proc/meminfo MemAvailable, else free physical pages), else inf."""
+    env = os.environ.get("LEGBRIDGE_MEMORY_LIMIT_MB")
+    if env:
+        try:
+            return float(env) * 1e6
+        except ValueError:
+            raise UsageError("bad LEGBRIDGE_MEMORY_LIMIT_MB", key="LEGBRIDGE_MEMORY_LIMIT_MB",
+                             expected="a number of megabytes", found=env) from None
+    try:
+        with open("/proc/meminfo", encoding="ascii") as fh:
+            for line in fh:
+                if line.startswith("MemAvailable:"):
+                    return float(line.split()[1]) * 1024.0
+    except OSError:
+        pass
+    try:
+        return float(os.sysconf("SC_PAGE_SIZE") * os.sysconf("SC_AVPHYS_PAGES"))
+    except (ValueError, OSError, AttributeError):
+        return math.inf
+
+
+def estimate_memory_bytes(samples_per_case, n_joints: int) -> float:
+    """Peak memory [bytes] of translating every case and checking them one after another."""
+    n = [float(k) for k in samples_per_case]
+    if not n:
+        return BASE_MEMORY_B
+    return BASE_MEMORY_B + n_joints * (HELD_B_PER_SAMPLE_JOINT * sum(n) + CHECK_B_PER_SAMPLE_JOINT * max(n))
+
+
+def check_memory(plan: Plan, robot: Robot, rate_hz: float, cases=None) -> None:
+    """Refuse (UsageError, exit 2) a request whose estimated memory would not fit, before any work,
+    naming the plan length, the rate and what to change."""
+    chosen = plan.cases if cases is None else tuple(plan.case(c) for c in cases)
+    durations = [float(c.time_s[-1] - c.time_s[0]) if len(c.time_s) else 0.0 for c in chosen]
+    samples = [math.floor(d * rate_hz + 1e-9) + 1 for d in durations]
+    need = estimate_memory_bytes(samples, len(robot.limb_joints))
+    have = available_memory_bytes()
+    if need > MEMORY_SHARE * have:
+        longest = max(durations, default=0.0)
+        raise UsageError(
+            f"{len(chosen)} case(s) of up to {longest:g} s at {rate_hz:g} Hz ({max(samples, default=0)} samples per case) "
+            f"need about {need / 1e9:.2f} GB, {have / 1e9:.2f} GB available", key="--rate",
+            expected=f"a request within {MEMORY_SHARE:.0%} of the available memory",
+            found=f"{need / 1e9:.2f} GB",
+            hint="lower --rate, check fewer cases (translate --case), or split the plan into shorter parts")
+
+
 def prepare(plan, robot, *, rate_hz: float, cases=None, leg_model=None, gait=None) -> Prepared:
     """Read ``plan`` against ``robot``, refuse it when its units cannot be the robot's (a probable
     unit slip: millimetres, centimetres, degrees; mapping.readers.plausibility), and translate its
@@ -100,6 +160,7 @@ def prepare(plan, robot, *, rate_hz: float, cases=None, leg_model=None, gait=Non
     from .readers.plausibility import check_units
     from .translate import translate_plan
 
+    check_memory(plan, robot, rate, cases)
     leg = leg_model if leg_model is not None else cached_leg_model(robot)
     warnings = tuple(check_units(plan, robot, leg_model=leg)) + actuator_jumps(plan)
     trajs = translate_plan(plan, robot, rate_hz=rate, cases=cases, leg_model=leg, gait=gait)

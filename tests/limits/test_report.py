@@ -224,3 +224,20 @@ def test_figures_do_not_depend_on_the_number_of_processes(reviewed):
     assert list(one) == plots.figure_keys(review) and set(two) == set(one)
     for key in one:
         assert one[key].png == two[key].png, key
+
+
+def test_envelope_keeps_every_peak_and_bounds_the_points():
+    # A 100,000-sample sine with one sample spiking to 7 (by hand: the global maximum 7 and minimum -1
+    # must survive, and every bucket of 100 samples keeps its own minimum and maximum).
+    t = np.linspace(0.0, 10.0, 100_000)
+    y = np.sin(2 * np.pi * 3 * t)
+    y[43_210] = 7.0
+    tt, yy = plots.envelope(t, y, max_points=2000)
+    assert yy.size <= 2000 and np.all(np.diff(tt) > 0)
+    assert yy.max() == 7.0 and tt[np.argmax(yy)] == t[43_210]
+    assert yy.min() == pytest.approx(y.min())
+    for b in (0, 431, 999):
+        sl = slice(100 * b, 100 * (b + 1))
+        assert y[sl].max() in yy and y[sl].min() in yy
+    short_t, short_y = plots.envelope(t[:500], y[:500])
+    assert np.array_equal(short_y, y[:500])

@@ -34,3 +34,22 @@ def test_a_jumping_policy_is_a_warning():
 def test_rate_is_checked_once(bad):
     with pytest.raises(UsageError, match="rate_hz"):
         check_rate(bad)
+
+
+def test_a_request_that_would_not_fit_is_refused_before_any_work(monkeypatch):
+    # The estimate by hand (mapping.pipeline constants): the invented demo, 5 cases x 2 s at 10 kHz
+    # on the four-joint biped: 0.3 GB + 4 x (300 B x 5 x 20,001 + 1500 B x 20,001) = 0.540 GB.
+    import pytest
+
+    from legbridge.mapping.pipeline import estimate_memory_bytes, prepare
+    from legbridge.mapping.slip.demo import shipped_demo_run_plan
+    from legbridge.robots.errors import UsageError
+
+    assert estimate_memory_bytes([20001] * 5, 4) == pytest.approx(0.3e9 + 4 * (300 * 5 * 20001 + 1500 * 20001))
+    monkeypatch.setenv("LEGBRIDGE_MEMORY_LIMIT_MB", "500")
+    with pytest.raises(UsageError) as err:
+        prepare(shipped_demo_run_plan(), "lab-biped", rate_hz=10000.0)
+    text = str(err.value)
+    assert "2 s at 10000 Hz" in text and "20001 samples" in text and "lower --rate" in text
+    monkeypatch.setenv("LEGBRIDGE_MEMORY_LIMIT_MB", "100000")
+    assert prepare(shipped_demo_run_plan(), "lab-biped", rate_hz=200.0).trajectories

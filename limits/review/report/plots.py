@@ -205,6 +205,58 @@ def _phase_bands(ax, t: np.ndarray, stance, swing) -> None:
                 ax.axvspan(t[a], t[b - 1], facecolor=color, edgecolor="none", zorder=0)
 
 
+MAX_POINTS = 2000
+"""Points drawn per series and panel: longer series are thinned to each bucket's minimum and maximum
+(every peak stays, the drawing time and the PNG do not grow with the plan's length)."""
+
+
+def envelope(t: np.ndarray, y: np.ndarray, max_points: int = MAX_POINTS) -> tuple[np.ndarray, np.ndarray]:
+    """(t, y) thinned to at most ``max_points``: the minimum and the maximum of each of max_points / 2
+    buckets, in time order (NaN-aware); unchanged when short enough."""
+    t = np.asarray(t, dtype=float)
+    y = np.asarray(y, dtype=float)
+    n = y.shape[0]
+    if n <= max_points:
+        return t, y
+    b = max_points // 2
+    k = -(-n // b)                                   # samples per bucket
+    pad = b * k - n
+    yy = np.concatenate([y, np.full(pad, np.nan)]).reshape(b, k)
+    with np.errstate(invalid="ignore"):
+        lo = np.where(np.all(np.isnan(yy), axis=1), 0, np.nanargmin(np.where(np.isnan(yy), np.inf, yy), axis=1))
+        hi = np.where(np.all(np.isnan(yy), axis=1), 0, np.nanargmax(np.where(np.isnan(yy), -np.inf, yy), axis=1))
+    base = np.arange(b) * k
+    idx = np.sort(np.stack([base + np.minimum(lo, hi), base + np.maximum(lo, hi)], axis=1), axis=1).ravel()
+    idx = np.unique(np.minimum(idx, n - 1))
+    return t[idx], y[idx]
+
+
+ZOOM_PLAN_S = 4.0
+"""Plans longer than this get, per case with a flagged segment, a zoomed joint figure around its worst one."""
+ZOOM_MARGIN_S = 0.25
+
+
+def zoom_window(review) -> tuple[float, float] | None:
+    """(t0, t1) around the case's worst flagged segment (exceeding first, then the highest peak
+    utilisation), or None (a short plan, or nothing flagged)."""
+    t = np.asarray(review.trajectory.time_s, dtype=float)
+    if t.size < 2 or t[-1] - t[0] <= ZOOM_PLAN_S or not review.segments:
+        return None
+    worst = max(review.segments, key=lambda s: (s.severity == "exceeds", s.utilisation if np.isfinite(s.utilisation) else np.inf))
+    return max(float(t[0]), worst.t_start_s - ZOOM_MARGIN_S), min(float(t[-1]), worst.t_end_s + ZOOM_MARGIN_S)
+
+
+def zoomed(review, window):
+    """A view of a case review restricted to ``window`` (t0, t1) [s], for case_joints_figure."""
+    from types import SimpleNamespace
+
+    t = np.asarray(review.trajectory.time_s, dtype=float)
+    keep = (t >= window[0]) & (t <= window[1])
+    segs = tuple(s for s in review.segments if s.t_end_s >= window[0] and s.t_start_s <= window[1])
+    return SimpleNamespace(trajectory=review.trajectory.rows(keep), segments=segs,
+                           case=f"{review.case}, {window[0]:.3f}-{window[1]:.3f} s")
+
+
 def case_joints_figure(review, robot) -> Figure:
     """Joint angle, speed and torque of one case against time, with limit bands and flagged spans.
 
@@ -243,9 +295,9 @@ def case_joints_figure(review, robot) -> Figure:
             ax.axhline(hi, color=LIMIT, linewidth=1.8, linestyle="-")
             if key == "torque":
                 # only where the speed makes the bound tighter than the static peak torque (drawn solid)
-                ax.plot(t, np.where(hi_v < tmax, hi_v, np.nan), color=LIMIT, linewidth=1.0, linestyle="--")
-                ax.plot(t, np.where(lo_v > -tmax, lo_v, np.nan), color=LIMIT, linewidth=1.0, linestyle="--")
-            ax.plot(t, series[key], color=PLAN, linewidth=1.3)
+                ax.plot(*envelope(t, np.where(hi_v < tmax, hi_v, np.nan)), color=LIMIT, linewidth=1.0, linestyle="--")
+                ax.plot(*envelope(t, np.where(lo_v > -tmax, lo_v, np.nan)), color=LIMIT, linewidth=1.0, linestyle="--")
+            ax.plot(*envelope(t, series[key]), color=PLAN, linewidth=1.3)
             y = series[key][np.isfinite(series[key])]
             if key == "torque":  # the envelope lines are part of what the reader compares against
                 env = np.concatenate([hi_v, lo_v])
@@ -323,14 +375,14 @@ def case_force_figure(review, robot, friction: float | None = None) -> Figure:
     for ax in (ax_z, ax_x):
         _style_axes(ax)
         ax.set_xlabel("time [s]")
-    ax_z.plot(t, f[:, 1], color=PLAN, linewidth=1.4, label="planned")
-    ax_x.plot(t, f[:, 0], color=PLAN, linewidth=1.4, label="planned")
+    ax_z.plot(*envelope(t, f[:, 1]), color=PLAN, linewidth=1.4, label="planned")
+    ax_x.plot(*envelope(t, f[:, 0]), color=PLAN, linewidth=1.4, label="planned")
     fz_pos = np.maximum(f[:, 1], 0.0)
-    ax_x.plot(t, mu * fz_pos, color=LIMIT, linewidth=1.0, linestyle="-", label=f"friction cone, mu = {mu:g}")
-    ax_x.plot(t, -mu * fz_pos, color=LIMIT, linewidth=1.0, linestyle="-")
+    ax_x.plot(*envelope(t, mu * fz_pos), color=LIMIT, linewidth=1.0, linestyle="-", label=f"friction cone, mu = {mu:g}")
+    ax_x.plot(*envelope(t, -mu * fz_pos), color=LIMIT, linewidth=1.0, linestyle="-")
     if ach is not None and ach.shape[0] == t.shape[0]:
-        ax_z.plot(t, ach[:, 1], color=ALT, linewidth=1.2, linestyle="--", label="achievable (QP)")
-        ax_x.plot(t, ach[:, 0], color=ALT, linewidth=1.2, linestyle="--", label="achievable (QP)")
+        ax_z.plot(*envelope(t, ach[:, 1]), color=ALT, linewidth=1.2, linestyle="--", label="achievable (QP)")
+        ax_x.plot(*envelope(t, ach[:, 0]), color=ALT, linewidth=1.2, linestyle="--", label="achievable (QP)")
     ax_z.set_ylabel("vertical force F_z [N]")
     ax_x.set_ylabel("horizontal force F_x [N]")
     ax_z.set_title("vertical", fontsize=9)
@@ -444,6 +496,7 @@ def figure_keys(review) -> list:
     """Every figure of a review's report, as keys for figure_for: per case its joints and ground force,
     per joint (both legs of a biped) the torque-speed plane, and the winding temperature."""
     keys = [(kind, r.case) for r in review.cases for kind in ("joints", "force")]
+    keys += [("zoom", r.case) for r in review.cases if zoom_window(r) is not None]
     keys += [("torque_speed", j.name) for j in review.robot.limb_joints]
     return keys + [("thermal", "")]
 
@@ -456,6 +509,9 @@ def figure_for(review, key) -> Figure:
         return case_joints_figure(review.case(arg), robot)
     if kind == "force":
         return case_force_figure(review.case(arg), robot, settings.friction)
+    if kind == "zoom":
+        r = review.case(arg)
+        return case_joints_figure(zoomed(r, zoom_window(r)), robot)
     if kind == "torque_speed":
         return torque_speed_figure(review.cases, robot, arg)
     if kind == "thermal":

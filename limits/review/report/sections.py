@@ -178,6 +178,8 @@ def cases(review, figs=None) -> str:
     for r in review.cases:
         fj = _figure_of(review, ("joints", r.case), figs)
         ff = _figure_of(review, ("force", r.case), figs)
+        window = plots.zoom_window(r)
+        fz = _figure_of(review, ("zoom", r.case), figs) if window is not None else None
         findings = "".join(f'<p class="finding">Could not be evaluated: {escape(f)}</p>' for f in r.findings)
         res = r.trajectory.base_residual_summary()
         weight = robot.total_mass_kg * STANDARD_GRAVITY_M_S2
@@ -212,6 +214,8 @@ def cases(review, figs=None) -> str:
                      "maximum joint speed and peak torque; dashed: the torque the voltage envelope allows at the planned speed, where that "
                      "is tighter than the peak torque. Triangles at a panel edge: samples beyond the plotted scale. "
                      "Hatched spans: flagged segments (diagonal = exceeds, dotted = near).")
+            + (figure(fz, f"The joints from {window[0]:.3f} to {window[1]:.3f} s, around this case's worst flagged segment "
+                      "(the plan is long: the overview above thins each line to its minima and maxima).") if fz is not None else "")
             + figure(ff, "Ground force on the foot [N] against time [s]: planned (solid), the closest achievable force found by the "
                      "force-feasibility QP (dashed) and the friction cone bound &plusmn;&mu;F<sub>z</sub>.")
             + "</article>")
