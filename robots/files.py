@@ -43,12 +43,36 @@ def _same_file(a: Path, b: Path) -> bool:
         return False
 
 
+def with_referenced_files(inputs) -> list[Path]:
+    """The input files and the files they name: a robot TOML's [urdf] file (resolved beside it), so
+    that no output can replace it either. An input that cannot be read is left for its reader to
+    report."""
+    out = []
+    for i in inputs:
+        if i is None:
+            continue
+        p = Path(i)
+        out.append(p)
+        if p.suffix.lower() == ".toml" and p.is_file():
+            import tomllib
+
+            try:
+                doc = tomllib.loads(p.read_text(encoding="utf-8"))
+            except (OSError, UnicodeDecodeError, tomllib.TOMLDecodeError, RecursionError):
+                continue
+            urdf = doc.get("urdf") if isinstance(doc, dict) else None
+            name = urdf.get("file") if isinstance(urdf, dict) else None
+            if isinstance(name, str) and name:
+                out.append(p.parent / name)
+    return out
+
+
 def check_outputs(outputs, *, inputs=(), force: bool = False) -> tuple[Path, ...]:
     """Refuse, before any work, output files that would fail or do harm: two outputs that are the
     same file, an output that is an input (whatever ``force`` says), an existing output without
     ``force`` (OutputExistsError), a missing folder (OutputFolderError). None entries are skipped."""
     outs = [Path(o) for o in outputs if o is not None]
-    ins = [Path(i) for i in inputs if i is not None]
+    ins = with_referenced_files(inputs)
     for k, o in enumerate(outs):
         for other in outs[:k]:
             if _same_file(o, other):
@@ -74,7 +98,7 @@ def check_output_folder(out_dir: str | Path, names, *, inputs=(), force: bool = 
     if out.exists() and not out.is_dir():
         raise OutputFolderError(path=str(out), expected="a folder for the outputs", found="a file")
     for n in names:
-        for i in inputs:
+        for i in with_referenced_files(inputs):
             if i is not None and _same_file(out / n, Path(i)):
                 raise OutputExistsError("refusing to overwrite an input file", path=str(out / n),
                                         hint="choose another output folder (--force never applies to inputs)")

@@ -45,3 +45,26 @@ def test_a_folder_that_refuses_files_is_one_clear_error():
     # /proc accepts no new files (Linux procfs; common practice), even for root
     with pytest.raises(LegbridgeError, match="/proc: cannot write in this folder"):
         write_atomic("/proc/legbridge-test.txt", "x")
+
+
+def test_the_urdf_a_robot_file_names_is_an_input_too(tmp_path):
+    # A robot TOML that names a URDF: writing any output over that URDF is refused, --force or not,
+    # and the file stays byte-identical (the reference: its SHA-256 before and after).
+    import hashlib
+    import shutil
+
+    import pytest
+
+    from legbridge.robots.errors import OutputExistsError
+    from legbridge.robots.files import check_output_folder, check_outputs
+    from legbridge.robots.library import library_path
+
+    for name in ("spatial-leg.toml", "spatial-leg.urdf"):
+        shutil.copy(library_path(name), tmp_path / name)
+    urdf = tmp_path / "spatial-leg.urdf"
+    before = hashlib.sha256(urdf.read_bytes()).hexdigest()
+    with pytest.raises(OutputExistsError, match="input"):
+        check_outputs([urdf], inputs=[tmp_path / "plan.json", tmp_path / "spatial-leg.toml"], force=True)
+    with pytest.raises(OutputExistsError, match="input"):
+        check_output_folder(tmp_path, ("spatial-leg.urdf",), inputs=[tmp_path / "spatial-leg.toml"], force=True)
+    assert hashlib.sha256(urdf.read_bytes()).hexdigest() == before
