@@ -68,7 +68,7 @@ def translate_biped(case: ReducedTrajectory, robot: Robot, *, rate_hz: float, mo
 
     legs = model.legs
     nj = model.leg.n_joints
-    jm = {leg: leg_joint_motion(model.leg, robot, motions[leg].length, motions[leg].angle) for leg in legs}
+    jm = {leg: leg_joint_motion(model.leg_model(leg), robot, motions[leg].length, motions[leg].angle) for leg in legs}
     q = np.hstack([jm[leg].q for leg in legs])
     qd = np.hstack([jm[leg].qd for leg in legs])
     qdd = np.hstack([jm[leg].qdd for leg in legs])

@@ -36,7 +36,8 @@ class BipedModel:
     joint_names: every leg joint, leg after leg ('left_hip', 'left_knee', ..., 'right_...')
     q_index / v_index: their entries in q and v (the same order); base_q_index / base_v_index: (x, z, pitch)
     foot_frame_ids: leg -> frame id of its foot; hip_frame_id: the hip point's frame
-    leg: the one-leg model (inverse kinematics of either leg)
+    leg: the one-leg model of the left leg (inverse kinematics); leg_models: leg -> its one-leg model
+        (the same object for both legs unless the robot file describes the right leg on its own)
     """
 
     model: pin.Model
@@ -49,6 +50,11 @@ class BipedModel:
     foot_frame_ids: dict
     hip_frame_id: int
     leg: LegModel
+    leg_models: dict | None = None
+
+    def leg_model(self, leg: str) -> LegModel:
+        """The one-leg model of ``leg`` (its inverse kinematics)."""
+        return (self.leg_models or {}).get(leg, self.leg)
 
     @property
     def n_joints(self) -> int:
@@ -77,7 +83,8 @@ def build_biped_model(robot: Robot) -> BipedModel:
     names = []
     for leg in robot.legs:
         parent, placement = jp, hip_placement
-        for seg, joint in zip(robot.segments, robot.joints):
+        segs, joints = robot.leg_description(leg)
+        for seg, joint in zip(segs, joints):
             name = f"{leg}_{joint.name}"
             j = model.addJoint(parent, pin.JointModelRY(), placement, name,
                                max_effort=np.array([np.inf]), max_velocity=np.array([np.inf]),
@@ -104,6 +111,7 @@ def _urdf_biped_model(robot: Robot) -> BipedModel:
 
 
 def _wrap(robot: Robot, model: pin.Model, names: tuple[str, ...], feet: dict, hip_frame_id: int) -> BipedModel:
+    left = build_leg_model(robot.leg_robot("left") if robot.right_joints else robot)
     jid = [model.getJointId(n) for n in names]
     base = [model.getJointId(n) for n in BASE_JOINTS]
     return BipedModel(
@@ -112,7 +120,8 @@ def _wrap(robot: Robot, model: pin.Model, names: tuple[str, ...], feet: dict, hi
         base_q_index=np.array([model.joints[i].idx_q for i in base]),
         base_v_index=np.array([model.joints[i].idx_v for i in base]),
         foot_frame_ids=feet, hip_frame_id=hip_frame_id,
-        leg=build_leg_model(robot),
+        leg=left, leg_models={leg: (left if not robot.right_joints or leg == "left" else build_leg_model(robot.leg_robot(leg)))
+                              for leg in robot.legs},
     )
 
 

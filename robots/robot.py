@@ -190,6 +190,8 @@ class Robot:
     legs: () for a one-leg description; ('left', 'right') for a biped whose two legs both follow
         this one leg description (both hips at the body's hip point in the sagittal model); the
         body mass then excludes both legs. Joints of a biped are named '<leg>_<joint>' (limb_joints)
+    right_segments, right_joints: a biped's right leg when it differs from the description above
+        (the left leg's); () = the right leg is the same. Same joint names and count as ``joints``.
     """
 
     name: str
@@ -207,6 +209,21 @@ class Robot:
     urdf: UrdfSource | None = None
     warnings: tuple[str, ...] = field(default=(), compare=False)
     legs: tuple[str, ...] = ()
+    right_segments: tuple[Segment, ...] = ()
+    right_joints: tuple[Joint, ...] = ()
+
+    def leg_description(self, leg: str) -> tuple[tuple[Segment, ...], tuple[Joint, ...]]:
+        """(segments, joints) of one leg of a biped (joint names without the leg prefix)."""
+        if leg == "right" and self.right_joints:
+            return self.right_segments, self.right_joints
+        return self.segments, self.joints
+
+    def leg_robot(self, leg: str) -> "Robot":
+        """A one-leg Robot of one leg of a biped (its own segments and joints, no legs)."""
+        from dataclasses import replace
+
+        segs, joints = self.leg_description(leg)
+        return replace(self, segments=segs, joints=joints, legs=(), right_segments=(), right_joints=())
 
     @property
     def joint_names(self) -> tuple[str, ...]:
@@ -224,7 +241,7 @@ class Robot:
             return self.joints
         from dataclasses import replace
 
-        return tuple(replace(j, name=f"{leg}_{j.name}") for leg in self.legs for j in self.joints)
+        return tuple(replace(j, name=f"{leg}_{j.name}") for leg in self.legs for j in self.leg_description(leg)[1])
 
     @property
     def limb_joint_names(self) -> tuple[str, ...]:
@@ -254,4 +271,6 @@ class Robot:
     @property
     def total_mass_kg(self) -> float:
         """Body plus leg(s) [kg]: the mass a spring-mass plan of this robot should carry."""
+        if self.legs and self.right_segments:
+            return self.body_mass_kg + sum(s.mass_kg for leg in self.legs for s in self.leg_description(leg)[0])
         return self.body_mass_kg + self.leg_mass_kg * max(1, len(self.legs))

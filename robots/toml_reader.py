@@ -110,6 +110,34 @@ def read_legs(r, path: str) -> tuple[str, ...]:
     return BIPED_LEGS
 
 
+def read_leg(top: Table, path: str, prefix: str) -> tuple[tuple[Segment, ...], tuple[Joint, ...]]:
+    """A leg description: ``[[segments]]`` and ``[joints]`` of ``top`` (the file, or its ``[right]``
+    table, whose keys then start with ``prefix``)."""
+    segs_raw = top.raw("segments")
+    if not isinstance(segs_raw, list) or not 2 <= len(segs_raw) <= 3:
+        raise RobotFileError(path=path, key=prefix + "segments", expected="2 or 3 [[segments]] tables (hip to foot)",
+                             found=f"{len(segs_raw) if isinstance(segs_raw, list) else type(segs_raw).__name__}")
+    segments = tuple(read_segment(Table(s, path, f"{prefix}segments[{i}]")) for i, s in enumerate(segs_raw))
+    names = [s.name for s in segments]
+    for i, n in enumerate(names):
+        if n in RESERVED_NAMES:
+            raise RobotFileError("segment name is taken by a model frame", path=path, key=f"{prefix}segments[{i}].name",
+                                 expected=f"a name other than {list(RESERVED_NAMES)}", found=n)
+    if len(set(names)) != len(names):
+        raise RobotFileError(path=path, key=prefix + "segments", expected="unique segment names", found=names)
+    jt = top.table("joints")
+    if len(jt.data) != len(segments):
+        raise RobotFileError(path=path, key=prefix + "joints", expected=f"{len(segments)} joint tables (one per segment)",
+                             found=f"{len(jt.data)} ({list(jt.data)})")
+    joints = []
+    for jname in jt.data:
+        jt.used.add(jname)
+        joints.append(read_joint(jname, jt.table(jname)))
+    if prefix:
+        top.refuse_unknown()
+    return segments, tuple(joints)
+
+
 def robot_from_toml(doc: dict, path: str, sha256: str, *, extra_sections: tuple[str, ...] = ()) -> Robot:
     """Build a Robot from a parsed native TOML document (``[robot]``, ``[[segments]]``, ``[joints]``)."""
     top = Table(doc, path, "")
@@ -125,27 +153,16 @@ def robot_from_toml(doc: dict, path: str, sha256: str, *, extra_sections: tuple[
     legs = read_legs(r, path)
     r.refuse_unknown()
 
-    segs_raw = top.raw("segments")
-    if not isinstance(segs_raw, list) or not 2 <= len(segs_raw) <= 3:
-        raise RobotFileError(path=path, key="segments", expected="2 or 3 [[segments]] tables (hip to foot)",
-                             found=f"{len(segs_raw) if isinstance(segs_raw, list) else type(segs_raw).__name__}")
-    segments = tuple(read_segment(Table(s, path, f"segments[{i}]")) for i, s in enumerate(segs_raw))
-    names = [s.name for s in segments]
-    for i, n in enumerate(names):
-        if n in RESERVED_NAMES:
-            raise RobotFileError("segment name is taken by a model frame", path=path, key=f"segments[{i}].name",
-                                 expected=f"a name other than {list(RESERVED_NAMES)}", found=n)
-    if len(set(names)) != len(names):
-        raise RobotFileError(path=path, key="segments", expected="unique segment names", found=names)
-
-    jt = top.table("joints")
-    if len(jt.data) != len(segments):
-        raise RobotFileError(path=path, key="joints", expected=f"{len(segments)} joint tables (one per segment)",
-                             found=f"{len(jt.data)} ({list(jt.data)})")
-    joints = []
-    for jname in jt.data:
-        jt.used.add(jname)
-        joints.append(read_joint(jname, jt.table(jname)))
+    segments, joints = read_leg(top, path, "")
+    right_segments, right_joints = (), ()
+    if top.has("right"):
+        if not legs:
+            raise RobotFileError("a [right] leg needs a biped", path=path, key="right",
+                                 expected='legs = ["left", "right"] in [robot]', found="one leg")
+        right_segments, right_joints = read_leg(top.table("right"), path, "right.")
+        if tuple(j.name for j in right_joints) != tuple(j.name for j in joints):
+            raise RobotFileError("the right leg's joints are not the left leg's", path=path, key="right.joints",
+                                 expected=str([j.name for j in joints]), found=[j.name for j in right_joints])
     for sec in extra_sections:
         top.used.add(sec)
     top.refuse_unknown()
@@ -162,8 +179,10 @@ def robot_from_toml(doc: dict, path: str, sha256: str, *, extra_sections: tuple[
         hip_offset_m=hip,
         nominal_leg_length_m=l0,
         foot_pitch_rad=foot_pitch,
-        warnings=tuple(w for j in joints for w in j.actuator.notes),
+        warnings=tuple(w for j in joints + right_joints for w in j.actuator.notes),
         legs=legs,
+        right_segments=right_segments,
+        right_joints=right_joints,
     )
 
 

@@ -45,7 +45,8 @@ def joint_inertia_diag_kgm2(robot, q) -> np.ndarray:
     n, nj = q.shape
     nseg = len(robot.segments)
     if robot.legs and nseg and nj == nseg * len(robot.legs):  # a biped: each leg on its own (fixed hip)
-        return np.hstack([joint_inertia_diag_kgm2(robot, q[:, k:k + nseg]) for k in range(0, nj, nseg)])
+        return np.hstack([joint_inertia_diag_kgm2(robot.leg_robot(leg), q[:, k * nseg:(k + 1) * nseg])
+                          for k, leg in enumerate(robot.legs)])
     if robot.segments:
         ang = np.cumsum(q, axis=1)
         dirs = np.stack([-np.sin(ang), -np.cos(ang)], axis=-1)  # (n, j, 2): segment i hangs along R_y(-z)
