@@ -88,7 +88,17 @@ def check_outputs(outputs, *, inputs=(), force: bool = False) -> tuple[Path, ...
         folder = o.parent if str(o.parent) else Path(".")
         if not folder.is_dir():
             raise OutputFolderError("output folder does not exist", path=str(folder), hint="create it first")
+        refuse_unwritable(folder)
     return tuple(outs)
+
+
+def refuse_unwritable(folder: Path) -> None:
+    """OutputFolderError unless files can be created in ``folder`` (checked before any work, so that a
+    read-only destination is found before the computation, not after it)."""
+    if not os.access(folder, os.W_OK | os.X_OK):
+        raise OutputFolderError("cannot write in the output folder", path=str(folder),
+                                expected="a folder this user may write in", found="no write permission",
+                                hint="choose another folder or change its permissions")
 
 
 def check_output_folder(out_dir: str | Path, names, *, inputs=(), force: bool = False) -> Path:
@@ -107,6 +117,9 @@ def check_output_folder(out_dir: str | Path, names, *, inputs=(), force: bool = 
         if present:
             raise OutputExistsError("previous outputs in the folder", path=str(out), expected="a folder without them",
                                     found=", ".join(present), hint=FORCE_HINT)
+    # the folder, or the nearest existing folder above it (where it will be created), must be writable
+    probe = out if out.is_dir() else next((p for p in out.absolute().parents if p.is_dir()), Path("."))
+    refuse_unwritable(probe)
     return out
 
 

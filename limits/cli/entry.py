@@ -66,6 +66,12 @@ def main(argv: list[str] | None = None) -> int:
     if not getattr(args, "func", None):
         parser.print_help(sys.stderr)
         return EXIT_BAD_INPUT
+    import signal
+
+    def terminated(signum, frame):  # SIGTERM as an interrupt: the same clean-up (temporary files, workers)
+        raise KeyboardInterrupt
+
+    previous = signal.signal(signal.SIGTERM, terminated) if hasattr(signal, "SIGTERM") else None
     try:
         return int(args.func(args))
     except LegbridgeError as exc:
@@ -93,6 +99,9 @@ def main(argv: list[str] | None = None) -> int:
               "would have written can be relied on. Please report it with the input files; set "
               "LEGBRIDGE_TRACEBACK=1 to see the traceback.", file=sys.stderr)
         return EXIT_INTERNAL
+    finally:
+        if previous is not None:
+            signal.signal(signal.SIGTERM, previous)
 
 
 if __name__ == "__main__":  # pragma: no cover

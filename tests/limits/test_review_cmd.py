@@ -206,3 +206,25 @@ def test_quiet_prints_no_progress_and_plain_lines_otherwise(tmp_path, capsys, th
     assert all(line.startswith("legbridge: [") for line in lines)
     main(["review", three_case_plan, "--robot", ROBOT, "-o", str(tmp_path / "b"), "--no-sweep", "--quiet"])
     assert capsys.readouterr().err == ""
+
+
+def test_sigterm_leaves_nothing_behind(tmp_path):
+    # A review terminated (SIGTERM, as a process manager stops a job) in the middle of its work: exit
+    # 130, one line, no output folder, no copy of the demo plan, no temporary file, no worker left.
+    import signal
+    import subprocess
+    import sys
+    import time
+
+    out = tmp_path / "out"
+    proc = subprocess.Popen([sys.executable, "-m", "legbridge.limits.cli", "review", "--demo", "-o", str(out)],
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    deadline = time.time() + 60
+    while time.time() < deadline and not out.exists():  # wait until it has started writing its folder
+        time.sleep(0.05)
+    time.sleep(0.5)
+    proc.send_signal(signal.SIGTERM)
+    _, err = proc.communicate(timeout=60)
+    assert proc.returncode == 130, err
+    assert err.strip().splitlines()[-1] == "legbridge: interrupted; no output was written"
+    assert not out.exists() and list(tmp_path.iterdir()) == []
