@@ -8,6 +8,11 @@ from collections.abc import Iterable, Mapping
 from .errors import RobotFileError
 
 
+MAX_MAGNITUDE = 1e6
+"""No quantity of a lab robot exceeds this in the SI unit its key names (kg, m, A, V, s, rad/s...):
+a larger value is refused as an input error, not carried into the model (a mass of 1e300 kg)."""
+
+
 class Table:
     """A TOML table being read: remembers which keys were used so unknown ones can be refused."""
 
@@ -40,9 +45,16 @@ class Table:
         val = self.raw(name)
         if isinstance(val, bool) or not isinstance(val, (int, float)):
             raise RobotFileError(path=self.path, key=self.key(name), expected="a number", found=val)
-        val = float(val)
+        try:
+            val = float(val)
+        except OverflowError:
+            raise RobotFileError(path=self.path, key=self.key(name), expected="a number of ordinary size",
+                                 found=f"an integer of {len(str(val))} digits") from None
         if not math.isfinite(val):
             raise RobotFileError(path=self.path, key=self.key(name), expected="a finite number", found=val)
+        if abs(val) > MAX_MAGNITUDE:
+            raise RobotFileError("not a physical value for a lab robot", path=self.path, key=self.key(name),
+                                 expected=f"a magnitude up to {MAX_MAGNITUDE:g} in the key's SI unit", found=val)
         if positive and val <= 0:
             raise RobotFileError(path=self.path, key=self.key(name), expected="a value > 0", found=val)
         if nonneg and val < 0:

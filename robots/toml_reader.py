@@ -49,6 +49,9 @@ def parse_toml(data: bytes, path: str) -> dict:
         raise RobotFileError("not UTF-8 text", path=path) from exc
     except tomllib.TOMLDecodeError as exc:
         raise RobotFileError(f"not valid TOML ({exc})", path=path) from exc
+    except RecursionError as exc:
+        raise RobotFileError("TOML nested too deeply", path=path, expected="tables a few levels deep",
+                             found="thousands of nested levels") from exc
 
 
 def read_spring(t: Table) -> Spring | None:

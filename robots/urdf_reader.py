@@ -88,6 +88,42 @@ class UrdfTree:
         return None
 
 
+def _check_inertial(link, path: str) -> None:
+    """A link's <inertial> as physics: a finite mass >= 0 and a finite, positive semi-definite inertia
+    tensor obeying the triangle inequality (each principal moment at most the sum of the other two;
+    any rigid body's does), refused here with the link named before Pinocchio sees it."""
+    inertial = link.find("inertial")
+    if inertial is None:
+        return
+    name = link.get("name")
+    mass_el = inertial.find("mass")
+    try:
+        mass = float(mass_el.get("value")) if mass_el is not None else 0.0
+    except (TypeError, ValueError):
+        mass = float("nan")
+    if not (math.isfinite(mass) and 0.0 <= mass <= 1e6):
+        raise RobotFileError(f"link '{name}' has no physical mass", path=path, key=f"link '{name}' <mass>",
+                             expected="a finite mass >= 0 kg", found=mass_el.get("value") if mass_el is not None else None)
+    el = inertial.find("inertia")
+    if el is None:
+        return
+    try:
+        vals = {k: float(el.get(k, "0")) for k in ("ixx", "ixy", "ixz", "iyy", "iyz", "izz")}
+    except ValueError:
+        vals = {"ixx": float("nan")}
+    if not all(math.isfinite(v) and abs(v) <= 1e6 for v in vals.values()):
+        raise RobotFileError(f"link '{name}' has no physical inertia", path=path, key=f"link '{name}' <inertia>",
+                             expected="finite entries [kg m^2]", found=dict(el.attrib))
+    tensor = np.array([[vals["ixx"], vals["ixy"], vals["ixz"]], [vals["ixy"], vals["iyy"], vals["iyz"]],
+                       [vals["ixz"], vals["iyz"], vals["izz"]]])
+    eig = np.linalg.eigvalsh(tensor)
+    tol = 1e-9 * max(1.0, float(np.max(np.abs(eig))))
+    if eig[0] < -tol or eig[2] > eig[0] + eig[1] + tol:
+        raise RobotFileError(f"link '{name}' has an inertia no rigid body has", path=path, key=f"link '{name}' <inertia>",
+                             expected="a positive semi-definite tensor whose principal moments obey the triangle inequality",
+                             found=f"principal moments {np.round(eig, 9).tolist()}")
+
+
 def parse_urdf(text: str, path: str) -> UrdfTree:
     """Read the link and joint tree of a URDF document; refuse what is not one."""
     try:
@@ -97,6 +133,8 @@ def parse_urdf(text: str, path: str) -> UrdfTree:
     if root.tag != "robot":
         raise RobotFileError("not a URDF", path=path, expected="a <robot> root element", found=f"<{root.tag}>")
     links = tuple(el.get("name") for el in root.findall("link"))
+    for el in root.findall("link"):
+        _check_inertial(el, path)
     jtype, jparent, jchild = {}, {}, {}
     for el in root.findall("joint"):
         name = el.get("name")
@@ -105,9 +143,25 @@ def parse_urdf(text: str, path: str) -> UrdfTree:
             raise RobotFileError("joint without name, parent or child", path=path, found=ET.tostring(el, encoding="unicode")[:80])
         jtype[name], jparent[name], jchild[name] = el.get("type"), p.get("link"), c.get("link")
     children = set(jchild.values())
+    twice = sorted({c for c in jchild.values() if list(jchild.values()).count(c) > 1}) if len(children) < len(jchild) else []
+    if twice:
+        raise RobotFileError("URDF must be one tree", path=path, expected="one parent joint per link",
+                             found=f"links with two parents: {twice[:5]}")
     roots = [lk for lk in links if lk not in children]
     if len(roots) != 1:
         raise RobotFileError("URDF must be one tree", path=path, expected="exactly one root link", found=roots)
+    # every link reached from the root once (breadth first, linear in the joints): no cycle, nothing apart
+    below: dict = {}
+    for j, parent in jparent.items():
+        below.setdefault(parent, []).append(jchild[j])
+    seen, frontier = {roots[0]}, [roots[0]]
+    while frontier:
+        frontier = [c for lk in frontier for c in below.get(lk, ()) if c not in seen and not seen.add(c)]
+    missing = [lk for lk in links if lk not in seen]
+    unknown = sorted({x for x in list(jparent.values()) + list(jchild.values()) if x not in set(links)})
+    if missing or unknown:
+        raise RobotFileError("URDF must be one tree", path=path, expected="every link below the root, joints between links",
+                             found=f"not reached from '{roots[0]}': {missing[:5]}" if missing else f"unknown links: {unknown[:5]}")
     return UrdfTree(path, text, links, jtype, jparent, jchild, roots[0])
 
 

@@ -17,6 +17,10 @@ from legbridge.limits.verdict import CaseSummary, Verdict
 from legbridge.robots.errors import CheckSettingsError, LegbridgeError
 
 
+MAX_DURATION_S = 1e7
+"""The longest test a winding-temperature check takes (about 116 days); longer is an input error."""
+
+
 @dataclass(frozen=True)
 class CheckSettings:
     """What the user asked for.
@@ -69,6 +73,8 @@ class CheckSettings:
             v = getattr(self, key)
             if v is not None and not (math.isfinite(v) and v > 0):
                 bad(key, "a positive number or None", v)
+        if self.duration_s is not None and self.duration_s > MAX_DURATION_S:
+            bad("duration_s", f"a test of at most {MAX_DURATION_S:g} s (about {MAX_DURATION_S / 86400:.0f} days)", self.duration_s)
         if self.friction is not None and not (math.isfinite(self.friction) and self.friction > 0):
             bad("friction", "a positive friction coefficient", self.friction)
         if self.range_margin_rad is not None and not (math.isfinite(self.range_margin_rad) and self.range_margin_rad >= 0):

@@ -22,9 +22,8 @@ EXIT_WITHIN, EXIT_EXCEEDS, EXIT_BAD_INPUT, EXIT_INTERNAL = 0, 1, 2, 3
 
 
 class _Parser(argparse.ArgumentParser):
-    def error(self, message: str):  # one line, exit 2, like every other bad input
-        self.print_usage(sys.stderr)
-        print(f"legbridge: error: {message}", file=sys.stderr)
+    def error(self, message: str):  # one line, exit 2, like every other bad input (no usage block)
+        print(f"legbridge: error: {self.prog}: {message} (see '{self.prog} --help')", file=sys.stderr)
         raise SystemExit(EXIT_BAD_INPUT)
 
 

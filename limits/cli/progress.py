@@ -3,13 +3,17 @@
 On a terminal one line is rewritten in place (the step and the elapsed time); when stderr is not a
 terminal (a log file, CI) each step is one plain line; with ``--quiet`` nothing is printed. Steps
 are announced by ``step(message)``; counted work (a sweep's offsets) by ``count(done, total, what)``;
-``close()`` ends the line. No third-party progress library: a rewritten line and plain lines are all
-this needs.
+``close()`` ends the line. Nothing is shown during the first QUIET_START_S: a run refused at once (bad
+input) prints its one error line and nothing else; the step under way then appears when that time is
+up. No third-party progress library: a rewritten line and plain lines are all this needs.
 """
 
 from __future__ import annotations
 
+import threading
 import time
+
+QUIET_START_S = 0.5
 
 
 class StderrProgress:
@@ -23,10 +27,33 @@ class StderrProgress:
         self.t0 = time.perf_counter()
         self.open = False
         self._last_quarter = -1
+        self._held: str | None = None
+        self._timer: threading.Timer | None = None
+        self._lock = threading.Lock()
+        self._closed = False
+
+    def _flush_held(self) -> None:
+        with self._lock:
+            text, self._held = self._held, None
+        if text is not None and not self._closed:
+            self._write(text)
 
     def _line(self, text: str, *, final: bool = False) -> None:
         if self.quiet:
             return
+        if time.perf_counter() - self.t0 < QUIET_START_S:  # hold it: shown only if the run lasts
+            with self._lock:
+                self._held = text
+            if self._timer is None:
+                self._timer = threading.Timer(QUIET_START_S - (time.perf_counter() - self.t0), self._flush_held)
+                self._timer.daemon = True
+                self._timer.start()
+            return
+        with self._lock:
+            self._held = None
+        self._write(text, final=final)
+
+    def _write(self, text: str, *, final: bool = False) -> None:
         stamp = f"{self.prefix}: [{time.perf_counter() - self.t0:6.1f} s] {text}"
         if self.tty:
             print("\r\x1b[K" + stamp, end="\n" if final else "", file=self.stream, flush=True)
@@ -49,6 +76,9 @@ class StderrProgress:
 
     def close(self) -> None:
         """End the line in place (a terminal) so that what follows starts on a line of its own."""
+        self._closed = True
+        if self._timer is not None:
+            self._timer.cancel()
         if self.open and not self.quiet:
             print("\r\x1b[K", end="", file=self.stream, flush=True)
             self.open = False

@@ -77,7 +77,16 @@ def parse_offsets(text: str) -> tuple[float, ...]:
         raise SweepInputError(key="--ground-offsets", expected=expected, found=text) from exc
     if not (math.isfinite(lo) and math.isfinite(hi)) or lo > hi or n < 1 or (n == 1 and lo != hi):
         raise SweepInputError(key="--ground-offsets", expected=expected, found=text)
+    if n > MAX_OFFSETS or max(abs(lo), abs(hi)) > MAX_OFFSET_M:
+        raise SweepInputError(key="--ground-offsets", expected=f"at most {MAX_OFFSETS} offsets within +-{MAX_OFFSET_M:g} m",
+                              found=text, hint="a finer grid over the window found by a coarse one")
     return offsets_between(lo, hi, n)
+
+
+MAX_OFFSETS = 10_001
+"""The most offsets one sweep takes (each simulates, translates and checks a whole case)."""
+MAX_OFFSET_M = 10.0
+"""Ground offsets beyond this [m] are not a disturbance of a leg's stride."""
 
 
 def offsets_between(lo_m: float, hi_m: float, n: int) -> tuple[float, ...]:

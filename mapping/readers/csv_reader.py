@@ -125,7 +125,10 @@ def read_csv_raw(path: str) -> RawPlan:
     units, given, metadata, model = _parse_metadata(meta_lines, path)
 
     header_row = head + 1
-    header = [h.strip() for h in next(csv.reader([lines[head]]))]
+    try:
+        header = [h.strip() for h in next(csv.reader([lines[head]]))]
+    except csv.Error as exc:
+        raise PlanFormatError(f"unreadable header row ({exc})", path=path, row=head + 1) from exc
     for j, name in enumerate(header):
         if not name:
             raise PlanFormatError(f"empty column name (column {j + 1})", path=path, row=header_row,
@@ -140,7 +143,11 @@ def read_csv_raw(path: str) -> RawPlan:
     for k, line in enumerate(lines[head + 1:], start=header_row + 1):
         if not line.strip():
             continue
-        fields = next(csv.reader([line]))
+        try:
+            fields = next(csv.reader([line]))
+        except csv.Error as exc:  # a cell beyond the csv module's field limit, a NUL byte...
+            raise PlanFormatError(f"unreadable row ({exc})", path=path, row=k,
+                                  expected="numbers separated by commas", found=f"{len(line)} characters") from exc
         if len(fields) != len(header):
             raise PlanFormatError("wrong number of cells", path=path, row=k,
                                   expected=f"{len(header)} cells as in the header (row {header_row})", found=f"{len(fields)} cells")

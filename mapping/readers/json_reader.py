@@ -121,4 +121,9 @@ def read_json_raw(path: str) -> RawPlan:
         raise PlanFormatError("not UTF-8 text", path=path, expected="a UTF-8 JSON file", found="other bytes") from exc
     except json.JSONDecodeError as exc:
         raise PlanFormatError(f"not valid JSON ({exc.msg}, line {exc.lineno} column {exc.colno})", path=path) from exc
+    except RecursionError as exc:
+        raise PlanFormatError("JSON nested too deeply", path=path, expected="a plan a few levels deep",
+                              found="thousands of nested levels") from exc
+    except ValueError as exc:  # e.g. an integer of thousands of digits
+        raise PlanFormatError(f"JSON value out of range ({exc})", path=path, expected="numbers of ordinary size") from exc
     return parse_json_plan(doc, path, sha)

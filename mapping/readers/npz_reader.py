@@ -52,18 +52,42 @@ def _scalar(arr: np.ndarray, path: str, key: str):
     return v.decode() if isinstance(v, bytes) else v
 
 
+MAX_ELEMENTS = 100_000_000
+"""An NPZ member declaring more elements than this is refused before it is read (its header is read
+first): 1e8 samples is 28 hours at 1 kHz."""
+
+
+def _check_declared_size(npz, name: str, path: str) -> None:
+    """Refuse a member whose .npy header declares an absurd or impossible shape, before allocating it."""
+    member = name if name.endswith(".npy") else name + ".npy"
+    try:
+        with npz.zip.open(member) as fh:
+            version = np.lib.format.read_magic(fh)
+            read = np.lib.format.read_array_header_1_0 if version == (1, 0) else np.lib.format.read_array_header_2_0
+            shape, _, dtype = read(fh, max_header_size=10000)
+    except (KeyError, ValueError, OSError, EOFError, zipfile.BadZipFile, SyntaxError) as exc:
+        raise PlanFormatError(f"damaged NPZ entry ({exc or type(exc).__name__})", path=path, key=name) from exc
+    n = 1
+    for d in shape:
+        n *= int(d)
+    if any(int(d) < 0 for d in shape) or n > MAX_ELEMENTS:
+        raise PlanFormatError("array too large for a plan", path=path, key=name,
+                              expected=f"at most {MAX_ELEMENTS:,} elements", found=f"shape {tuple(shape)}")
+
+
 def load_npz_arrays(data: bytes, path: str) -> dict:
     """All arrays of an NPZ file, name -> array; refuses pickled/object arrays and non-NPZ files."""
     try:
         npz = np.load(io.BytesIO(data), allow_pickle=False)
-    except (ValueError, OSError, zipfile.BadZipFile) as exc:
-        raise PlanFormatError(f"not a readable NPZ file ({exc})", path=path) from exc
+    except (ValueError, OSError, EOFError, zipfile.BadZipFile) as exc:
+        raise PlanFormatError(f"not a readable NPZ file ({exc or type(exc).__name__})", path=path) from exc
     if not isinstance(npz, np.lib.npyio.NpzFile):
         raise PlanFormatError("not an NPZ archive", path=path, expected="a .npz archive of named arrays",
                               found="a single .npy array")
     out = {}
     with npz:
         for name in npz.files:
+            _check_declared_size(npz, name, path)
             try:
                 out[name] = npz[name]
             except ValueError as exc:

@@ -41,6 +41,9 @@ PHASE_VALUES = ("stance", "flight")
 
 FORCE_TOLERANCE_FRACTION = 1e-3
 FORCE_TOLERANCE_FLOOR_N = 1e-9
+MAX_MAGNITUDE = 1e6
+"""No plan value of a legged robot exceeds this in any of its units (s, m, rad, N, m/s, or the
+nondimensional units): a larger one is an input error (a leg of 1e300 m), refused by the reader."""
 
 
 def check_column_names(case, path: str) -> None:
@@ -109,6 +112,11 @@ def check_values(case, path: str) -> None:
             i = int(bad[0])
             raise PlanFormatError("value is not a finite number", path=path, **case.where(c, i),
                                   expected="a finite number", found=float(v[i]))
+        bad = np.flatnonzero(np.abs(v) > MAX_MAGNITUDE)
+        if bad.size:
+            i = int(bad[0])
+            raise PlanFormatError("value is not physical for a legged robot", path=path, **case.where(c, i),
+                                  expected=f"a magnitude up to {MAX_MAGNITUDE:g} in the file's units", found=float(v[i]))
     t = case.columns["time_s"]
     dt = np.diff(t)
     bad = np.flatnonzero(dt <= 0.0)

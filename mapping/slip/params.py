@@ -13,6 +13,14 @@ from dataclasses import MISSING, asdict, dataclass, fields
 from legbridge.robots.errors import SlipInputError
 
 
+PHYSICAL_MAX = {
+    "mass_kg": 1e4, "stiffness_n_per_m": 1e7, "damping_n_s_per_m": 1e5, "nominal_leg_length_m": 10.0,
+    "min_leg_length_m": 10.0, "gravity_m_s2": 100.0, "max_time_between_apexes_s": 100.0,
+}
+"""Upper bounds of a legged robot's spring-mass parameters (SI): a larger value is an input error, not
+a simulation to attempt (a stiffness of 1e300 N/m would keep the ODE solver busy for ever)."""
+
+
 @dataclass(frozen=True)
 class SpringMassParams:
     """Spring-mass model parameters.
@@ -45,6 +53,9 @@ class SpringMassParams:
             if not lower_ok:
                 what = ">= 0" if f.name == "damping_n_s_per_m" else "> 0"
                 raise SlipInputError(key=f.name, expected=f"a number {what}", found=float(value))
+            if value > PHYSICAL_MAX[f.name]:
+                raise SlipInputError(key=f.name, expected=f"a legged robot's value, at most {PHYSICAL_MAX[f.name]:g}",
+                                     found=float(value))
         if self.min_leg_length_m >= self.nominal_leg_length_m:
             raise SlipInputError(
                 key="min_leg_length_m",

@@ -197,8 +197,10 @@ def test_demo_review(tmp_path, capsys):
     assert "invented" in printed and "alternating legs, left first" in printed
 
 
-def test_quiet_prints_no_progress_and_plain_lines_otherwise(tmp_path, capsys, three_case_plan):
-    # stderr is not a terminal under pytest: one plain line per step, no carriage returns
+def test_quiet_prints_no_progress_and_plain_lines_otherwise(tmp_path, capsys, three_case_plan, monkeypatch):
+    # stderr is not a terminal under pytest: one plain line per step, no carriage returns (shown from
+    # the start here; by default the first half second is silent, so a refusal prints one line only)
+    monkeypatch.setattr("legbridge.limits.cli.progress.QUIET_START_S", 0.0)
     main(["review", three_case_plan, "--robot", ROBOT, "-o", str(tmp_path / "a"), "--no-sweep"])
     err = capsys.readouterr().err
     lines = err.strip().splitlines()
