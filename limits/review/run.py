@@ -12,6 +12,7 @@ with os.replace, so a failure leaves the folder as it was.
 
 from __future__ import annotations
 
+import contextlib
 import os
 import shutil
 import tempfile
@@ -51,13 +52,80 @@ class ReviewRun:
 
 
 def _publish(staging: Path, out: Path) -> dict[str, Path]:
-    """Move every file of ``staging`` into ``out`` (os.replace: each one appears whole or not at all)."""
-    moved = {}
-    for entry in sorted(staging.iterdir()):
-        dest = out / entry.name
-        os.replace(entry, dest)
-        moved[entry.name] = dest
-    return moved
+    """Move every file of ``staging`` into ``out`` (os.replace: each one appears whole or not at all),
+    and remove the outputs of an earlier run that this run does not write (an old sweep.csv beside a
+    new review would mix two runs). Interrupts (SIGINT, SIGTERM) are held back until the last move:
+    the folder then holds one run's outputs, all of them."""
+    import signal
+
+    held = (signal.SIGINT, signal.SIGTERM)
+    blocked = hasattr(signal, "pthread_sigmask")
+    if blocked:
+        previous = signal.pthread_sigmask(signal.SIG_BLOCK, held)
+    try:
+        moved = {}
+        for entry in sorted(staging.iterdir()):
+            dest = out / entry.name
+            os.replace(entry, dest)
+            moved[entry.name] = dest
+        for name in OUTPUT_NAMES.values():
+            if name not in moved and (out / name).is_file():
+                (out / name).unlink()
+        return moved
+    finally:
+        if blocked:
+            signal.pthread_sigmask(signal.SIG_SETMASK, previous)
+
+
+LOCK_NAME = ".legbridge-lock"
+
+
+class FolderLock:
+    """An exclusive claim on an output folder for one run: ``LOCK_NAME`` created with O_EXCL, holding
+    the process id; a second run into the same folder is refused (exit 2) instead of replacing the
+    first one's outputs while it writes. A lock left by a process that no longer exists is taken over."""
+
+    def __init__(self, out: Path):
+        self.path = Path(out) / LOCK_NAME
+        self.held = False
+
+    def __enter__(self):
+        from legbridge.robots.errors import OutputFolderError
+
+        for _ in range(2):
+            try:
+                fd = os.open(self.path, os.O_CREAT | os.O_EXCL | os.O_WRONLY, 0o644)
+            except FileExistsError:
+                try:
+                    pid = int(self.path.read_text().strip() or "0")
+                except (OSError, ValueError):
+                    pid = 0
+                if pid and _alive(pid):
+                    raise OutputFolderError("another legbridge run is writing this folder", path=str(self.path.parent),
+                                            expected="one run per output folder", found=f"run {pid} (lock {self.path.name})",
+                                            hint="wait for it, or choose another folder") from None
+                self.path.unlink(missing_ok=True)  # left by a run that ended without cleaning up
+                continue
+            with os.fdopen(fd, "w") as fh:
+                fh.write(str(os.getpid()))
+            self.held = True
+            return self
+        raise OutputFolderError("cannot claim the output folder", path=str(self.path.parent))
+
+    def __exit__(self, *exc):
+        if self.held:
+            self.path.unlink(missing_ok=True)
+        return False
+
+
+def _alive(pid: int) -> bool:
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except PermissionError:
+        return True
+    return True
 
 
 def render_outputs(review: Review) -> dict[str, str | bytes]:
@@ -81,21 +149,25 @@ def render_outputs(review: Review) -> dict[str, str | bytes]:
     return files
 
 
-def write_review(review: Review, out_dir, *, force: bool = False, inputs=()) -> dict[str, Path]:
+def write_review(review: Review, out_dir, *, force: bool = False, inputs=(), lock: bool = True) -> dict[str, Path]:
     """Write every output of ``review`` into ``out_dir`` (created if missing), all or nothing; returns
-    output kind -> path."""
+    output kind -> path. ``lock``: claim the folder (FolderLock) while writing; False when the caller
+    holds the claim already (run_review holds it for the whole run)."""
     out = check_output_folder(out_dir, tuple(OUTPUT_NAMES.values()), inputs=inputs, force=force)
     files = render_outputs(review)
     created_dir = not out.exists()
     out.mkdir(parents=True, exist_ok=True)
-    staging = Path(tempfile.mkdtemp(prefix=".legbridge-staging-", dir=str(out)))
+    staging = None
     try:
-        for name, content in files.items():
-            (staging / name).write_bytes(content.encode("utf-8") if isinstance(content, str) else content)
-        _publish(staging, out)
+        with FolderLock(out) if lock else contextlib.nullcontext():
+            staging = Path(tempfile.mkdtemp(prefix=".legbridge-staging-", dir=str(out)))
+            for name, content in files.items():
+                (staging / name).write_bytes(content.encode("utf-8") if isinstance(content, str) else content)
+            _publish(staging, out)
     except BaseException:
-        shutil.rmtree(staging, ignore_errors=True)
-        if created_dir and not any(out.iterdir()):
+        if staging is not None:
+            shutil.rmtree(staging, ignore_errors=True)
+        if created_dir and out.is_dir() and not any(out.iterdir()):
             out.rmdir()
         raise
     shutil.rmtree(staging, ignore_errors=True)
@@ -116,7 +188,7 @@ def _inputs(plan, robot) -> tuple:
 
 def run_review(plan, robot, settings: CheckSettings | None, out_dir, *, force: bool = False,
                progress: Progress | None = None, created: str | None = None, sweep=SWEEP_AUTO,
-               jobs: int | None = None) -> ReviewRun:
+               jobs: int | None = None, _claimed: bool = False) -> ReviewRun:
     """Review ``plan`` (Plan or plan file) on ``robot`` (Robot, description file or bundled robot name)
     into ``out_dir``: build_review, then write_review. Raises a LegbridgeError subclass on bad input
     (nothing written) and OutputExistsError when ``out_dir`` holds previous outputs and ``force`` is
@@ -125,10 +197,18 @@ def run_review(plan, robot, settings: CheckSettings | None, out_dir, *, force: b
     plan's own cases."""
     t0 = time.perf_counter()
     inputs = _inputs(plan, robot)
-    check_output_folder(out_dir, tuple(OUTPUT_NAMES.values()), inputs=inputs, force=force)  # before any work
-    review = build_review(plan, robot, settings, sweep=sweep, jobs=jobs, progress=progress, created=created)
-    (progress or (lambda _m: None))("writing the review, the targets and the report")
-    paths = write_review(review, out_dir, force=force, inputs=inputs)
+    out = check_output_folder(out_dir, tuple(OUTPUT_NAMES.values()), inputs=inputs, force=force)  # before any work
+    created_dir = not out.exists()
+    out.mkdir(parents=True, exist_ok=True)
+    try:
+        with contextlib.nullcontext() if _claimed else FolderLock(out):  # one run per folder, first check to last file
+            review = build_review(plan, robot, settings, sweep=sweep, jobs=jobs, progress=progress, created=created)
+            (progress or (lambda _m: None))("writing the review, the targets and the report")
+            paths = write_review(review, out, force=force, inputs=inputs, lock=False)
+    except BaseException:
+        if created_dir and out.is_dir() and not any(out.iterdir()):
+            out.rmdir()
+        raise
     return ReviewRun(review, paths, time.perf_counter() - t0)
 
 
@@ -144,13 +224,16 @@ def run_demo_review(settings: CheckSettings | None, out_dir, *, force: bool = Fa
     (progress or (lambda _m: None))("copying the demo plan (invented data)")
     created_dir = not out.exists()
     out.mkdir(parents=True, exist_ok=True)
-    plan_path = write_atomic(out / DEMO_PLAN, shipped_demo_plan_path(SHIPPED_DEMO_RUN_PLAN).read_bytes(), force=force)
+    plan_path = None
     try:
-        run = run_review(plan_path, DEMO_ROBOT, settings, out, force=True, progress=progress, created=created,
-                         sweep=sweep, jobs=jobs)
+        with FolderLock(out):  # claimed before the plan copy: a second run cannot touch this run's files
+            plan_path = write_atomic(out / DEMO_PLAN, shipped_demo_plan_path(SHIPPED_DEMO_RUN_PLAN).read_bytes(), force=force)
+            run = run_review(plan_path, DEMO_ROBOT, settings, out, force=True, progress=progress, created=created,
+                             sweep=sweep, jobs=jobs, _claimed=True)
     except BaseException:
-        plan_path.unlink(missing_ok=True)
-        if created_dir and not any(out.iterdir()):
+        if plan_path is not None:
+            plan_path.unlink(missing_ok=True)
+        if created_dir and out.is_dir() and not any(out.iterdir()):
             out.rmdir()
         raise
     return ReviewRun(run.review, dict(run.paths, plan=Path(plan_path)), run.elapsed_s)

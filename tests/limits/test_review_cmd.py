@@ -230,3 +230,49 @@ def test_sigterm_leaves_nothing_behind(tmp_path):
     assert proc.returncode == 130, err
     assert err.strip().splitlines()[-1] == "legbridge: interrupted; no output was written"
     assert not out.exists() and list(tmp_path.iterdir()) == []
+
+
+def test_two_reviews_into_one_folder_do_not_both_claim_success(tmp_path):
+    # Two processes reviewing into the same folder at once: one writes its outputs, the other is
+    # refused with one line (exit 2) instead of replacing them; no lock or staging file is left.
+    import subprocess
+    import sys
+
+    out = tmp_path / "out"
+    cmd = [sys.executable, "-m", "legbridge.limits.cli", "review", "--demo", "-o", str(out), "--no-sweep", "--force", "--quiet"]
+    procs = [subprocess.Popen(cmd, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True) for _ in range(2)]
+    results = [p.communicate(timeout=120) + (p.returncode,) for p in procs]
+    codes = sorted(r[2] for r in results)
+    refused = [r for r in results if r[2] == 2]
+    assert codes in ([1, 2], [1, 1]), codes  # [1, 1]: the second started after the first had finished
+    for _, err, _ in refused:
+        assert "another legbridge run is writing this folder" in err and len(err.strip().splitlines()) == 1
+    names = sorted(p.name for p in out.iterdir())
+    assert names == sorted(OUTPUTS + ["demo-plan.json"]), names
+
+
+def test_a_full_disk_leaves_the_previous_review_whole(tmp_path, capsys, monkeypatch, three_case_plan):
+    # A first review, then a second (--force) whose writing fails with ENOSPC on its third file: exit 2,
+    # one line, and the folder holds the first review exactly (byte for byte), no staging left.
+    import errno
+    import hashlib
+
+    out = tmp_path / "out"
+    assert main(["review", three_case_plan, "--robot", ROBOT, "-o", str(out), "--no-sweep", "--quiet"]) in (0, 1)
+    before = {p.name: hashlib.sha256(p.read_bytes()).hexdigest() for p in out.iterdir()}
+    capsys.readouterr()
+    real = Path.write_bytes
+    calls = {"n": 0}
+
+    def failing(self, data):
+        calls["n"] += 1
+        if calls["n"] == 3:
+            raise OSError(errno.ENOSPC, "No space left on device", str(self))
+        return real(self, data)
+
+    monkeypatch.setattr(Path, "write_bytes", failing)
+    code = main(["review", three_case_plan, "--robot", ROBOT, "-o", str(out), "--no-sweep", "--quiet", "--force",
+                 "--margin", "0.2"])
+    err = capsys.readouterr().err
+    assert code == 2 and "No space left on device" in err and len(err.strip().splitlines()) == 1
+    assert {p.name: hashlib.sha256(p.read_bytes()).hexdigest() for p in out.iterdir()} == before
