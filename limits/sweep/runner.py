@@ -198,8 +198,8 @@ def _run_local(tasks, jobs: int, progress: Progress | None):
                 progress(k + 1, total)
         return out
     results = [None] * total
-    with ProcessPoolExecutor(max_workers=min(jobs, total), mp_context=_pool_context(),
-                             initializer=single_threaded_blas) as pool:
+    pool = ProcessPoolExecutor(max_workers=min(jobs, total), mp_context=_pool_context(), initializer=_worker_start)
+    try:
         futs = {pool.submit(run_offset, t): k for k, t in enumerate(tasks)}
         pending, done_n = set(futs), 0
         while pending:
@@ -207,14 +207,36 @@ def _run_local(tasks, jobs: int, progress: Progress | None):
             for f in done:
                 exc = f.exception()
                 if exc is not None:
-                    for p in pending:
-                        p.cancel()
                     raise exc
                 results[futs[f]] = f.result()
                 done_n += 1
                 if progress:
                     progress(done_n, total)
+    except BaseException:
+        _stop(pool)  # an error or an interrupt (SIGINT, SIGTERM): no worker outlives the sweep
+        raise
+    pool.shutdown(wait=True)
     return results
+
+
+def _worker_start() -> None:
+    """Worker initializer: interrupts are the parent's to handle (it stops the workers), one BLAS thread."""
+    import signal
+
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    signal.signal(signal.SIGTERM, signal.SIG_DFL)  # a fork inherits the command's handler; the parent ends us
+    single_threaded_blas()
+
+
+def _stop(pool: ProcessPoolExecutor) -> None:
+    """Cancel what has not started and end the worker processes now (the work in them is abandoned)."""
+    procs = list((getattr(pool, "_processes", None) or {}).values())
+    pool.shutdown(wait=False, cancel_futures=True)
+    for p in procs:
+        if p.is_alive():
+            p.terminate()
+    for p in procs:
+        p.join(timeout=5)
 
 
 def _run_dask(tasks, scheduler, progress: Progress | None):

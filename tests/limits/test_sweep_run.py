@@ -183,3 +183,33 @@ def test_cli_exit_codes_outputs_and_caution(short_plan_file, ample_robot, tmp_pa
     code, cap = _main([flat, "--robot", ample_robot, "--json", tmp_path / "never.json"], capsys)
     assert code == 2 and "'policy'" in cap.err and len(cap.err.strip().splitlines()) == 1
     assert not (tmp_path / "never.json").exists()
+
+
+def test_sigterm_during_a_sweep_ends_every_worker(tmp_path):
+    # SIGTERM while the pool works: exit 130, one line, no results file, and none of the worker
+    # processes (found with psutil while they run) outlives the command.
+    import signal
+    import subprocess
+    import sys
+    import time
+
+    psutil = pytest.importorskip("psutil")
+    from legbridge.mapping.slip.demo import shipped_demo_plan_path
+
+    csv_path = tmp_path / "s.csv"
+    proc = subprocess.Popen([sys.executable, "-m", "legbridge.limits.cli", "sweep", str(shipped_demo_plan_path()),
+                             "--robot", "lab-biped-leg", "--ground-offsets", "-0.05:0.05:101", "--jobs", "2",
+                             "--csv", str(csv_path), "--quiet"], stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    workers = []
+    deadline = time.time() + 60
+    while time.time() < deadline and len(workers) < 2:
+        workers = psutil.Process(proc.pid).children(recursive=True)
+        time.sleep(0.05)
+    assert len(workers) >= 2, "the pool did not start"
+    time.sleep(0.5)
+    proc.send_signal(signal.SIGTERM)
+    _, err = proc.communicate(timeout=60)
+    assert proc.returncode == 130 and err.strip().splitlines()[-1] == "legbridge: interrupted; no output was written", err
+    time.sleep(0.5)
+    alive = [w.pid for w in workers if w.is_running() and w.status() != psutil.STATUS_ZOMBIE]
+    assert alive == [] and not csv_path.exists()

@@ -522,6 +522,14 @@ def figure_for(review, key) -> Figure:
 _FORKED_REVIEW = {}
 
 
+def _child_signals() -> None:
+    """A forked drawing process leaves interrupts to the parent, which ends the pool."""
+    import signal
+
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    signal.signal(signal.SIGTERM, signal.SIG_DFL)
+
+
 def _draw_in_child(key):
     return key, figure_for(_FORKED_REVIEW["review"], key)
 
@@ -544,7 +552,7 @@ def render_figures(review, jobs: int | None = None) -> dict:
     first = {keys[-1]: figure_for(review, keys[-1])}
     _FORKED_REVIEW["review"] = review
     try:
-        with multiprocessing.get_context("fork").Pool(jobs) as pool:
+        with multiprocessing.get_context("fork").Pool(jobs, initializer=_child_signals) as pool:
             return dict(pool.map(_draw_in_child, keys[:-1], chunksize=1)) | first
     finally:
         _FORKED_REVIEW.clear()
