@@ -213,9 +213,42 @@ def _axis_local(jmodel) -> np.ndarray:
 
 def _full_model(tree: UrdfTree) -> pin.Model:
     try:
-        return pin.buildModelFromXML(tree.text)
+        with _native_stderr_captured() as said:
+            return pin.buildModelFromXML(tree.text)
     except Exception as exc:  # Pinocchio raises plain RuntimeError / ValueError on bad URDF
-        raise RobotFileError(f"Pinocchio could not read the URDF ({exc})", path=tree.path) from exc
+        first = next((ln.strip() for ln in said() if ln.strip()), "")
+        detail = f"{exc}" + (f"; the URDF parser said: {first}" if first else "")
+        raise RobotFileError(f"Pinocchio could not read the URDF ({detail})", path=tree.path) from exc
+
+
+class _native_stderr_captured:
+    """Capture what native code writes to file descriptor 2 (the URDF parser prints its complaints
+    there, in several lines, before Pinocchio raises): the message then stays one line of ours.
+    Entering yields a callable returning the captured lines."""
+
+    def __enter__(self):
+        import os
+        import tempfile
+
+        self._lines: list[str] = []
+        try:
+            self._saved = os.dup(2)
+            self._tmp = tempfile.TemporaryFile()
+            os.dup2(self._tmp.fileno(), 2)
+        except OSError:
+            self._saved = None
+        return lambda: self._lines
+
+    def __exit__(self, *exc):
+        import os
+
+        if self._saved is not None:
+            os.dup2(self._saved, 2)
+            os.close(self._saved)
+            self._tmp.seek(0)
+            self._lines = self._tmp.read(20000).decode("utf-8", "replace").splitlines()
+            self._tmp.close()
+        return False
 
 
 def _reduced_model(full: pin.Model, locked: dict, toml_path: str) -> pin.Model:

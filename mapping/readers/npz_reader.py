@@ -80,6 +80,9 @@ def load_npz_arrays(data: bytes, path: str) -> dict:
     try:
         npz = np.load(io.BytesIO(data), allow_pickle=False)
     except (ValueError, OSError, EOFError, zipfile.BadZipFile) as exc:
+        if "pickle" in str(exc):  # numpy's word for bytes it cannot place; legbridge never unpickles
+            raise PlanFormatError("not an NPZ archive", path=path, expected="a .npz archive of named arrays",
+                                  found="other bytes (legbridge never loads pickled data)") from exc
         raise PlanFormatError(f"not a readable NPZ file ({exc or type(exc).__name__})", path=path) from exc
     if not isinstance(npz, np.lib.npyio.NpzFile):
         raise PlanFormatError("not an NPZ archive", path=path, expected="a .npz archive of named arrays",
