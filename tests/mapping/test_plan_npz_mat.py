@@ -80,8 +80,9 @@ def test_bad_npz(tmp_path, changes, match):
 def test_not_an_npz(tmp_path):
     p = tmp_path / "plan.npz"
     p.write_text("time_s,leg_length_m\n")
-    with pytest.raises(PlanFormatError, match="not a readable NPZ file"):
+    with pytest.raises(PlanFormatError, match="not an NPZ archive") as info:
         read_plan(p)
+    assert "allow_pickle" not in str(info.value) and "never loads pickled data" in str(info.value)
 
 
 def mat_vars(case_changes=None, **changes):
