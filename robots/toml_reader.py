@@ -28,6 +28,11 @@ from .robot import KNEE_BRANCHES, Joint, Robot, Segment, Spring
 RESERVED_NAMES = ("body", "hip", "foot", "universe", "base_x", "base_z", "base_pitch")
 
 
+MAX_ROBOT_FILE_BYTES = 50_000_000
+"""A robot TOML or URDF larger than this is refused before it is read (a stripped URDF of a humanoid
+is well under a megabyte)."""
+
+
 def read_bytes(path: str | Path) -> bytes:
     """The bytes of an input file; InputFileNotFound when it does not exist."""
     p = Path(path)
@@ -35,6 +40,9 @@ def read_bytes(path: str | Path) -> bytes:
         raise InputFileNotFound("this is a folder", path=str(p), expected="a robot file", found="a folder")
     if not p.is_file():
         raise InputFileNotFound("file not found", path=str(p))
+    if p.stat().st_size > MAX_ROBOT_FILE_BYTES:
+        raise RobotFileError("robot file too large", path=str(p), expected=f"at most {MAX_ROBOT_FILE_BYTES // 1_000_000} MB",
+                             found=f"{p.stat().st_size / 1e6:.1f} MB")
     try:
         return p.read_bytes()
     except OSError as exc:

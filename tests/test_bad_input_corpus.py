@@ -76,3 +76,21 @@ def test_bad_input_is_refused_cleanly(case, tmp_path):
     assert {n: after.get(n) for n in inputs} == inputs, "an input was modified"
     assert set(after) == set(inputs), f"written: {sorted(set(after) - set(inputs))}"
     assert before is None
+
+
+def test_files_too_large_are_refused_before_reading(tmp_path, monkeypatch, capsys):
+    # the size bound (lowered here to 1 kB) is checked from the file system before a byte is read
+    import legbridge.mapping.readers.raw as raw
+    import legbridge.robots.toml_reader as toml_reader
+    from legbridge.limits.cli.entry import main
+
+    base = corpus.base_files()
+    (tmp_path / "plan.json").write_bytes(base["plan.json"])
+    (tmp_path / "r.toml").write_bytes(base["lab-biped-leg.toml"])
+    monkeypatch.setattr(raw, "MAX_PLAN_FILE_BYTES", 1000)
+    assert main(["check", str(tmp_path / "plan.json"), "--robot", corpus.ROBOT, "--quiet"]) == 2
+    assert "plan file too large" in capsys.readouterr().err
+    monkeypatch.setattr(raw, "MAX_PLAN_FILE_BYTES", 2_000_000_000)
+    monkeypatch.setattr(toml_reader, "MAX_ROBOT_FILE_BYTES", 1000)
+    assert main(["check", str(tmp_path / "plan.json"), "--robot", str(tmp_path / "r.toml"), "--quiet"]) == 2
+    assert "robot file too large" in capsys.readouterr().err

@@ -80,11 +80,27 @@ def _phase(v, path: str, key: str) -> np.ndarray:
     return np.array([s.strip().lower() for s in items], dtype=str)
 
 
+MAX_ELEMENTS = 100_000_000
+"""A MAT-file variable declaring more elements than this is refused before it is loaded."""
+
+
 def read_mat_raw(path: str) -> RawPlan:
     """Read and check a MAT-file plan; file units (layout in the module docstring)."""
     import scipy.io
 
     data, sha = read_file_bytes(path)
+    try:  # the declared sizes first: a header may claim more than the machine holds
+        for name, shape, _ in scipy.io.whosmat(io.BytesIO(data)):
+            n = 1
+            for d in shape:
+                n *= int(d)
+            if n > MAX_ELEMENTS:
+                raise PlanFormatError("array too large for a plan", path=path, key=name,
+                                      expected=f"at most {MAX_ELEMENTS:,} elements", found=f"shape {tuple(shape)}")
+    except PlanFormatError:
+        raise
+    except Exception:  # damaged or another version: loadmat below says which
+        pass
     try:
         doc = scipy.io.loadmat(io.BytesIO(data), simplify_cells=True)
     except NotImplementedError as exc:  # v7.3 (HDF5) files

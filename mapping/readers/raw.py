@@ -237,8 +237,16 @@ def read_file_bytes(path) -> tuple[bytes, str]:
     p = Path(path)
     if not p.is_file():
         raise InputFileNotFound("plan file not found", path=str(p), expected="an existing file", found="nothing")
+    size = p.stat().st_size
+    if size > MAX_PLAN_FILE_BYTES:
+        raise PlanFormatError("plan file too large", path=str(p), expected=f"at most {MAX_PLAN_FILE_BYTES / 1e9:g} GB",
+                              found=f"{size / 1e9:.2f} GB", hint="split the plan into shorter parts")
     data = p.read_bytes()
     return data, hashlib.sha256(data).hexdigest()
+
+
+MAX_PLAN_FILE_BYTES = 2_000_000_000
+"""A plan file larger than this is refused before it is read (a 2 GB CSV is days of samples at 1 kHz)."""
 
 
 def as_float_array(values, path: str, key: str) -> np.ndarray:
