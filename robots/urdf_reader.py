@@ -135,6 +135,12 @@ def parse_urdf(text: str, path: str) -> UrdfTree:
     links = tuple(el.get("name") for el in root.findall("link"))
     for el in root.findall("link"):
         _check_inertial(el, path)
+    taken = ("universe", "base_x", "base_z", "base_pitch")  # names legbridge's model gives its own joints
+    for kind, names in (("link", links), ("joint", tuple(el.get("name") for el in root.findall("joint")))):
+        clash = [n for n in names if n in taken]
+        if clash:
+            raise RobotFileError(f"{kind} name taken by the model", path=path, key=f"{kind} '{clash[0]}'",
+                                 expected=f"a name other than {list(taken)}", found=clash[0])
     jtype, jparent, jchild = {}, {}, {}
     for el in root.findall("joint"):
         name = el.get("name")

@@ -235,6 +235,9 @@ def cases() -> list[Case]:
         parent, child = first_joint.group(2), first_joint.group(3)
         cyc = urdf.replace("</robot>", f'<joint name="loop" type="fixed"><parent link="{child}"/><child link="{parent}"/></joint></robot>')
         urdf_case("cycle", cyc)
+    for taken in ("universe", "base_x", "base_pitch"):
+        first = re.search(r'<joint name="([^"]+)"', urdf).group(1)
+        urdf_case(f"joint-named-{taken}", urdf.replace(f'"{first}"', f'"{taken}"'))
     urdf_case("missing-link", urdf.replace("</robot>", '<joint name="j9" type="fixed"><parent link="nowhere"/><child link="nothing"/></joint></robot>'))
     urdf_case("xml-bomb", '<?xml version="1.0"?><!DOCTYPE r [<!ENTITY a "aaaaaaaaaa"><!ENTITY b "&a;&a;&a;&a;&a;&a;&a;&a;&a;&a;">'
               '<!ENTITY c "&b;&b;&b;&b;&b;&b;&b;&b;&b;&b;"><!ENTITY d "&c;&c;&c;&c;&c;&c;&c;&c;&c;&c;">]><robot name="&d;"/>')
