@@ -175,8 +175,10 @@ def cases() -> list[Case]:
     add("npz-header-negative", {"p.npz": _npz_header_lie((-5,))}, _check("p.npz"))
     add("npz-wrong-members", {"p.npz": _npz_with({"a": np.arange(3.0)})}, _check("p.npz"))
     # --- MAT
-    add("mat-v73-signature", {"p.mat": b"MATLAB 7.3 MAT-file, Platform: x, Created on: y HDF5 schema 1.00 .".ljust(512, b" ") + b"\x89HDF\r\n\x1a\n" * 8},
-        _check("p.mat"))
+    # a version 7.3 (HDF5-based) MAT-file: a 116-byte text header, 8 bytes of subsystem offset, the
+    # version 0x0200 and the endian mark 'IM' (the level-5 header layout), then an HDF5 signature
+    v73 = b"MAT-file, version 7.3, HDF5 schema 1.00 .".ljust(116, b" ") + b"\x00" * 8 + b"\x00\x02IM"
+    add("mat-v73-signature", {"p.mat": v73.ljust(512, b"\x00") + b"\x89HDF\r\n\x1a\n" * 8}, _check("p.mat"))
     add("mat-empty-struct", {"p.mat": _mat_with({"x": np.zeros((0, 0))})}, _check("p.mat"))
     add("mat-wrong-types", {"p.mat": _mat_with({"format": np.array(["legbridge.plan/1"]), "cases": np.arange(4.0)})}, _check("p.mat"))
     # --- robot TOML

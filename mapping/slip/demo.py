@@ -74,32 +74,20 @@ def demo_apex() -> ApexState:
 
 def demo_plan(heights_m=DEMO_HEIGHTS_M) -> Plan:
     """The demo plan in memory (deterministic): one case per ground height, model and policy attached."""
-    return simulate_cases(
-        demo_params(),
-        demo_policy(),
-        demo_apex(),
-        heights_m,
-        duration_s=DEMO_DURATION_S,
-        rate_hz=DEMO_RATE_HZ,
-        metadata={"description": DEMO_DESCRIPTION, "invented": "yes"},
-        path="<legbridge demo plan>",
-    )
+    return _simulated(heights_m, {"description": DEMO_DESCRIPTION, "invented": "yes"}, "<legbridge demo plan>",
+                      "whole-flight")
 
 
 def demo_run_plan(heights_m=DEMO_HEIGHTS_M) -> Plan:
     """The demo plan for a biped running with alternating legs: the same cases with the flight leg angle
     written for the landing leg (simulate's flight_swing='policy') and metadata gait 'alternating'."""
-    return simulate_cases(
-        demo_params(),
-        demo_policy(),
-        demo_apex(),
-        heights_m,
-        duration_s=DEMO_DURATION_S,
-        rate_hz=DEMO_RATE_HZ,
-        metadata={"description": DEMO_RUN_DESCRIPTION, "invented": "yes", "gait": "alternating"},
-        path="<legbridge demo running plan>",
-        flight_swing="policy",
-    )
+    return _simulated(heights_m, {"description": DEMO_RUN_DESCRIPTION, "invented": "yes", "gait": "alternating"},
+                      "<legbridge demo running plan>", "policy")
+
+
+def _simulated(heights_m, metadata: dict, path: str, flight_swing: str) -> Plan:
+    return simulate_cases(demo_params(), demo_policy(), demo_apex(), heights_m, duration_s=DEMO_DURATION_S,
+                          rate_hz=DEMO_RATE_HZ, metadata=metadata, path=path, flight_swing=flight_swing)
 
 
 def shipped_demo_plan_path(name: str = SHIPPED_DEMO_PLAN) -> Path:
