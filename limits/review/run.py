@@ -225,14 +225,17 @@ def run_demo_review(settings: CheckSettings | None, out_dir, *, force: bool = Fa
     created_dir = not out.exists()
     out.mkdir(parents=True, exist_ok=True)
     plan_path = None
+    old_copy = (out / DEMO_PLAN).read_bytes() if (out / DEMO_PLAN).is_file() else None  # an earlier run's
     try:
         with FolderLock(out):  # claimed before the plan copy: a second run cannot touch this run's files
             plan_path = write_atomic(out / DEMO_PLAN, shipped_demo_plan_path(SHIPPED_DEMO_RUN_PLAN).read_bytes(), force=force)
             run = run_review(plan_path, DEMO_ROBOT, settings, out, force=True, progress=progress, created=created,
                              sweep=sweep, jobs=jobs, _claimed=True)
     except BaseException:
-        if plan_path is not None:
+        if plan_path is not None and old_copy is None:
             plan_path.unlink(missing_ok=True)
+        elif plan_path is not None:  # the earlier review stays whole, with the plan copy it reviewed
+            write_atomic(plan_path, old_copy, force=True)
         if created_dir and out.is_dir() and not any(out.iterdir()):
             out.rmdir()
         raise
