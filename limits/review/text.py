@@ -7,9 +7,12 @@ terminal, the JSON and the report agree to the digit.
 from __future__ import annotations
 
 from legbridge.limits.cautions import caution_lines
-from legbridge.limits.verdict import Verdict, joint_label, utilisation_text
+from legbridge.limits.verdict import Verdict, joint_label, limit_label, utilisation_text
 
 from .review import Review
+
+
+SHOWN_PER_CASE = 3
 
 
 def worst_segments(review: Review, n: int = 5) -> list:
@@ -22,6 +25,29 @@ def worst_segments(review: Review, n: int = 5) -> list:
             seen.add((s.joint, s.limit))
             out.append(s)
     return out[:n]
+
+
+def case_findings(case) -> list:
+    """A case's flagged segments, worst first (exceeding before near, then utilisation), one per
+    (joint, limit)."""
+    segs = sorted(case.segments, key=lambda s: (s.severity != Verdict.EXCEEDS, -s.utilisation, s.t_start_s))
+    seen, out = set(), []
+    for s in segs:
+        if (s.joint, s.limit) not in seen:
+            seen.add((s.joint, s.limit))
+            out.append(s)
+    return out
+
+
+def answer_line(case) -> str:
+    """The answer for one case in one line: verdict, worst limit and joint, how far, and where."""
+    s = case.summary
+    w = s.worst
+    if w is None:
+        return f"{case.case}: {s.verdict.words}"
+    where = next((f" at {g.t_start_s:.3f}-{g.t_end_s:.3f} s" for g in case_findings(case)
+                  if g.limit == w.limit and g.joint == w.joint), "")
+    return f"{case.case}: {s.verdict.words}; worst {w.text}{where}"
 
 
 def identity_lines(review: Review, command: str) -> list[str]:
@@ -80,13 +106,18 @@ def finding_lines(review: Review) -> list[str]:
     if len(review.cases) > 1:
         out.append("Ranking, worst first: " + ", ".join(
             f"{c.case} ({c.summary.worst.text})" if c.summary.worst else c.case for c in review.ranked))
-    segs = worst_segments(review)
-    if segs:
-        out.append("Worst findings (the worst segment of each limit and joint):")
-        for s in segs:
-            out.append(f"  {s.case} / {joint_label(s.joint)} / {s.limit}: {s.severity.value}, "
-                       f"{s.t_start_s:.3f}-{s.t_end_s:.3f} s, peak {s.peak:.4g} {s.unit} against {s.allowed:.4g} {s.unit}, "
-                       f"utilisation {utilisation_text(s.utilisation)}")
+    shown = [c for c in review.ranked if not c.passed and c.segments] or [c for c in review.ranked if c.segments][:1]
+    if shown:
+        out.append("Worst findings of every case that exceeds a limit (or, when none does, of the worst case):")
+        for c in shown:
+            segs = case_findings(c)
+            for s in segs[:SHOWN_PER_CASE]:
+                out.append(f"  {s.case} / {joint_label(s.joint)} / {limit_label(s.limit)}: {s.severity.value}, "
+                           f"{s.t_start_s:.3f}-{s.t_end_s:.3f} s, peak {s.peak:.4g} {s.unit} against {s.allowed:.4g} {s.unit}, "
+                           f"utilisation {utilisation_text(s.utilisation)}")
+            if len(segs) > SHOWN_PER_CASE:
+                out.append(f"  {c.case}: +{len(segs) - SHOWN_PER_CASE} more (every segment is in the review JSON and "
+                           "the report's segments table)")
     else:
         out.append("No segment of any case is near or beyond a modelled limit.")
     bad = [c.case for c in review.cases if not c.passed]
@@ -129,4 +160,4 @@ def review_lines(review: Review, *, command: str = "review", paths: dict | None 
     return lines
 
 
-__all__ = ["case_lines", "finding_lines", "identity_lines", "review_lines", "sweep_lines", "worst_segments"]
+__all__ = ["answer_line", "case_findings", "case_lines", "finding_lines", "identity_lines", "review_lines", "sweep_lines", "worst_segments"]

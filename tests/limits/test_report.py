@@ -241,3 +241,27 @@ def test_envelope_keeps_every_peak_and_bounds_the_points():
         assert y[sl].max() in yy and y[sl].min() in yy
     short_t, short_y = plots.envelope(t[:500], y[:500])
     assert np.array_equal(short_y, y[:500])
+
+
+def test_the_answer_comes_first_and_the_sign_off_carries_what_was_signed(reviewed):
+    # The report opens with one line per case, worst first, before the caution and the identity
+    # table; the sign-off section repeats the plan and robot hashes, the version and every verdict,
+    # so a detached sign-off page still says what was signed (the reference: the review itself).
+    review, _, html, _ = reviewed
+    i_answer, i_identity = html.index('id="answer"'), html.index('id="caution-and-identity"')
+    assert i_answer < i_identity
+    answer = html[i_answer:i_identity]
+    for c in review.ranked:
+        assert escape_text(c.case) in answer and escape_text(c.verdict.words) in answer
+    order = [answer.index(escape_text(c.case) + ":") for c in review.ranked]
+    assert order == sorted(order)  # worst first
+    signoff = html[html.index('id="sign-off"'):]
+    assert review.plan.sha256 in signoff and review.robot.sha256 in signoff
+    for c in review.cases:
+        assert escape_text(c.verdict.words) in signoff
+
+
+def escape_text(s: str) -> str:
+    from html import escape
+
+    return escape(s)

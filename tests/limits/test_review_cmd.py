@@ -114,7 +114,7 @@ def test_terminal_summary(reviewed):
         assert re.search(rf"^\s+{re.escape(line)}\s", stdout, re.M)
     assert VERDICT_EXCEEDS in stdout and VERDICT_NEAR in stdout and VERDICT_WITHIN in stdout
     assert str(out / REPORT_HTML) in stdout
-    assert "Worst findings" in stdout and "drop / knee / peak_torque: exceeds" in stdout
+    assert "Worst findings" in stdout and "drop / knee / peak torque: exceeds" in stdout
     assert " ".join(CAUTIONS[0].split()[:6]) in " ".join(stdout.split())
     assert not re.search(r"\bsafe\b", stdout, re.I)
 

@@ -26,6 +26,7 @@ def render_report(review) -> str:
 
     figs = render_figures(review)  # every figure, drawn on the available cores
     body = "".join([
+        sections.answer(review),
         sections.caution_identity(review),
         sections.verdicts(review),
         sections.cases(review, figs),

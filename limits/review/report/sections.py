@@ -18,7 +18,7 @@ from legbridge.robots.robot import STANDARD_GRAVITY_M_S2
 
 from . import plots
 
-SECTION_IDS = ("caution-and-identity", "verdicts", "cases", "torque-speed", "thermal", "segments", "sign-off")
+SECTION_IDS = ("answer", "caution-and-identity", "verdicts", "cases", "torque-speed", "thermal", "segments", "sign-off")
 # Present only when the review ran a ground-height sweep; it stands between "segments" and "sign-off".
 SWEEP_SECTION_ID = "sweep"
 
@@ -134,6 +134,20 @@ def caution_identity(review) -> str:
     warn += "".join(f'<p class="note">Plan and robot: {escape(w)}</p>' for w in review.warnings)
     return (f'<section id="caution-and-identity"><h2>1. Caution and what was reviewed</h2>'
             f'<div class="caution">{caution}</div><table class="identity">{table}</table>{warn}</section>')
+
+
+def answer(review) -> str:
+    """The answer first: one line per case (verdict, worst limit, how far and where), worst first,
+    from limits.review.text.answer_line (the terminal prints the same lines)."""
+    from legbridge.limits.review.text import answer_line
+
+    items = "".join(f'<li class="verdict {c.verdict.css_class}"><a href="#case-{slug(c.case)}">{escape(answer_line(c))}</a></li>'
+                    for c in review.ranked)
+    bad = sum(1 for c in review.cases if not c.passed)
+    head = (f"{bad} of {len(review.cases)} case(s) exceed a modelled limit or could not be evaluated" if bad
+            else f"Every case is {Verdict.WITHIN.words} (or near one)")
+    return (f'<section id="answer"><h2>The answer, worst case first</h2><p><strong>{escape(head)}.</strong> '
+            f'Modelled limits only: read the caution below.</p><ol class="answer">{items}</ol></section>')
 
 
 def verdicts(review) -> str:
@@ -323,7 +337,14 @@ def signoff(review) -> str:
         (num(max_joint_speed(j).value), "num"), (f"{j.lower_rad:.4g} to {j.upper_rad:.4g}", "num")]) for j in robot.joints)
     items = "".join(f"<li>{escape(i)}</li>" for i in SIGNOFF_ITEMS)
     blanks = "".join(_row([role, "", "", ""]) for role in ("Prepared by", "Checked by", "Person responsible for the test"))
+    version = review.provenance.get("legbridge", "")
+    what = _row(["What was reviewed", ""], header=True) + "".join(_row([escape(k), v]) for k, v in (
+        ("Plan SHA-256", f"<span class='hash'>{escape(getattr(review.plan, 'sha256', '') or '')}</span>"),
+        ("Robot SHA-256", f"<span class='hash'>{escape(robot.sha256)}</span>"),
+        ("legbridge version", escape(version)),
+        *[(f"Case {c.case}", escape(c.verdict.words)) for c in review.cases]))
     return (f'<section id="sign-off"><h2>7. Sign-off before the test</h2>'
+            f'<table class="signoff-identity">{what}</table>'
             f'<p>The values this review assumed for each drive (set the drives at or below them):</p>'
             f'<table>{head}{body}</table>'
             f'<p>Generic reminders only. The lab\'s own safety rules and the person responsible for the test decide what is '
