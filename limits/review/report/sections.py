@@ -76,7 +76,8 @@ def _row(cells, header=False) -> str:
             out.append(f'<{tag} class="{c[1]}">{c[0]}</{tag}>')
         else:
             out.append(f"<{tag}>{c}</{tag}>")
-    return "<tr>" + "".join(out) + "</tr>"
+    row = "<tr>" + "".join(out) + "</tr>"
+    return f"<thead>{row}</thead>" if header else row  # a printed table repeats its header on every page
 
 
 def exceeded_limits(case) -> str:
