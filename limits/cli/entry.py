@@ -21,6 +21,11 @@ COMMAND_MODULES = ("robot", "translate", "check", "review", "sweep")
 EXIT_WITHIN, EXIT_EXCEEDS, EXIT_BAD_INPUT, EXIT_INTERNAL = 0, 1, 2, 3
 
 
+class Terminated(BaseException):
+    """SIGTERM, raised where the command is (not a KeyboardInterrupt, which the interpreter treats
+    specially at exit): the same clean-up as an interrupt, exit 130."""
+
+
 class _Parser(argparse.ArgumentParser):
     def error(self, message: str):  # one line, exit 2, like every other bad input (no usage block)
         print(f"legbridge: error: {self.prog}: {message} (see '{self.prog} --help')", file=sys.stderr)
@@ -68,7 +73,8 @@ def main(argv: list[str] | None = None) -> int:
     import signal
 
     def terminated(signum, frame):  # SIGTERM as an interrupt: the same clean-up (temporary files, workers)
-        raise KeyboardInterrupt
+        signal.signal(signal.SIGTERM, signal.SIG_IGN)  # once is enough: the clean-up is not interrupted again
+        raise Terminated
 
     previous = signal.signal(signal.SIGTERM, terminated) if hasattr(signal, "SIGTERM") else None
     try:
@@ -85,7 +91,7 @@ def main(argv: list[str] | None = None) -> int:
         where = f"{exc.filename}: " if getattr(exc, "filename", None) else ""
         print(f"legbridge: error: {where}{exc.strerror or exc}", file=sys.stderr)
         return EXIT_BAD_INPUT
-    except KeyboardInterrupt:
+    except (KeyboardInterrupt, Terminated):
         print("legbridge: interrupted; no output was written", file=sys.stderr)
         return 130
     except Exception as exc:  # a bug: fail closed, never a silent pass; the traceback on request
