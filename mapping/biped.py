@@ -27,13 +27,11 @@ from __future__ import annotations
 from dataclasses import replace
 
 import numpy as np
-import pinocchio as pin
 
 from legbridge.robots.biped_model import BipedModel
 from legbridge.robots.robot import Robot
 
 from .dynamics import foot_force_local, inverse_dynamics_feet
-from .free_flight import free_flight_base
 from .gait import Gait, assign_legs
 from .joint_trajectory import FLAG_NONFINITE, JointTrajectory
 from .kinematics import leg_vector
@@ -41,7 +39,7 @@ from .motor_side import motor_side
 from .plan import ReducedTrajectory, frozen_array
 from .resample import resample_case
 from .swing import LegChannel, leg_motions
-from .translate import _base_axis, leg_joint_motion
+from .translate import leg_joint_motion, whole_body_motion
 
 DEFAULT_SWING_CLEARANCE_M = 0.05
 """Mid-swing foot clearance a generated swing aims at [m] (mapping.swing.span_shortening): a stated
@@ -80,18 +78,7 @@ def translate_biped(case: ReducedTrajectory, robot: Robot, *, rate_hz: float, mo
     force = np.where(stance[:, None], np.column_stack([rs.force_x_n, rs.force_z_n]), 0.0)
     share = np.where(contact, 1.0 / np.maximum(contact.sum(axis=1, keepdims=True), 1), 0.0)  # (n, legs)
 
-    g = model.model.gravity.linear
-    m_total = robot.total_mass_kg
-    bx = _base_axis(rs.body_x, force[:, 0], stance, g[0], m_total)
-    bz = _base_axis(rs.body_z, force[:, 1], stance, g[2], m_total)
-    zero = np.zeros(n)
-    base_q, base_v, base_a = (np.column_stack([bx[k], bz[k], zero]) for k in range(3))
-    base_q, base_v, base_a = free_flight_base(model, rs.time_s, q, qd, qdd, base_q, base_v, base_a, stance)
-    qf = np.tile(pin.neutral(model.model), (n, 1))
-    vf = np.zeros((n, model.model.nv))
-    af = np.zeros((n, model.model.nv))
-    qf[:, model.base_q_index], vf[:, model.base_v_index], af[:, model.base_v_index] = base_q, base_v, base_a
-    qf[:, model.q_index], vf[:, model.v_index], af[:, model.v_index] = q, qd, qdd
+    (base_q, base_v, base_a), (qf, vf, af) = whole_body_motion(model, rs, robot, q, qd, qdd, force, stance)
 
     feet = [(model.foot_frame_ids[leg], foot_force_local(model, jm[leg].rot, force * share[:, k:k + 1],
                                                          frame_id=model.foot_frame_ids[leg]))

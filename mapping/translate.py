@@ -24,7 +24,7 @@ least squares and Pinocchio Jacobians per sample.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 
 import numpy as np
 import pinocchio as pin
@@ -187,33 +187,38 @@ def leg_joint_motion(leg: LegModel, robot: Robot, ll, la) -> LegJointMotion:
     return LegJointMotion(q, qd, qdd, flags, jac, rot)
 
 
+def whole_body_motion(model_like, rs: ResampledCase, robot: Robot, q, qd, qdd, force, stance):
+    """((base_q, base_v, base_a) (n, 3) each, (q_full, v_full, a_full)) for joints q, qd, qdd (n, j):
+    the base as the plan's body motion drives it in stance (the point-mass law along an axis the plan
+    does not give), free-floating in flight (mapping.free_flight), assembled with the joints into the
+    whole model's configuration, velocity and acceleration. model_like: a LegModel or a BipedModel."""
+    n = q.shape[0]
+    g = model_like.model.gravity.linear
+    m_total = robot.total_mass_kg
+    bx = _base_axis(rs.body_x, force[:, 0], stance, g[0], m_total)
+    bz = _base_axis(rs.body_z, force[:, 1], stance, g[2], m_total)
+    zero = np.zeros(n)
+    base_q, base_v, base_a = (np.column_stack([bx[k], bz[k], zero]) for k in range(3))
+    base_q, base_v, base_a = free_flight_base(model_like, rs.time_s, q, qd, qdd, base_q, base_v, base_a, stance)
+    model = model_like.model
+    qf = np.tile(pin.neutral(model), (n, 1))
+    vf, af = np.zeros((n, model.nv)), np.zeros((n, model.nv))
+    qf[:, model_like.base_q_index], qf[:, model_like.q_index] = base_q, q
+    vf[:, model_like.base_v_index], vf[:, model_like.v_index] = base_v, qd
+    af[:, model_like.base_v_index], af[:, model_like.v_index] = base_a, qdd
+    return (base_q, base_v, base_a), (qf, vf, af)
+
+
 def translate_resampled(rs: ResampledCase, robot: Robot, leg: LegModel, *, name: str = "",
                         ground_height_m: float = 0.0, rate_hz: float = 1000.0) -> JointTrajectory:
     """translate() on a case already on the controller grid."""
-    n = rs.n_samples
     m = leg_joint_motion(leg, robot, rs.leg_length, rs.leg_angle)
     q, qd, qdd, flags, jac, rot = m.q, m.qd, m.qdd, m.flags, m.jac, m.rot
 
     # ground force (stance only) and base motion
     stance = np.asarray(rs.stance, dtype=bool)
     force = np.where(stance[:, None], np.column_stack([rs.force_x_n, rs.force_z_n]), 0.0)
-    g = leg.model.gravity.linear
-    m_total = robot.total_mass_kg
-    bx = _base_axis(rs.body_x, force[:, 0], stance, g[0], m_total)
-    bz = _base_axis(rs.body_z, force[:, 1], stance, g[2], m_total)
-    zero = np.zeros(n)
-    base_q, base_v, base_a = (np.column_stack([bx[k], bz[k], zero]) for k in range(3))
-    base_q, base_v, base_a = free_flight_base(leg, rs.time_s, q, qd, qdd, base_q, base_v, base_a, stance)
-    model = leg.model
-    qf = np.tile(pin.neutral(model), (n, 1))
-    vf = np.zeros((n, model.nv))
-    af = np.zeros((n, model.nv))
-    qf[:, leg.base_q_index] = base_q
-    vf[:, leg.base_v_index] = base_v
-    af[:, leg.base_v_index] = base_a
-    qf[:, leg.q_index] = q
-    vf[:, leg.v_index] = qd
-    af[:, leg.v_index] = qdd
+    (base_q, base_v, base_a), (qf, vf, af) = whole_body_motion(leg, rs, robot, q, qd, qdd, force, stance)
 
     dyn = inverse_dynamics(leg, qf, vf, af, foot_force_local(leg, rot, force))
     tau = dyn.tau

@@ -25,7 +25,7 @@ import numpy as np
 import pinocchio as pin
 
 from .errors import RobotFileError
-from .leg_model import BASE_JOINTS, FOOT_FRAME, HIP_FRAME, LegModel, _segment_inertia, build_leg_model, planar_base
+from .leg_model import BASE_JOINTS, HIP_FRAME, LegModel, add_native_chain, build_leg_model, native_body
 from .robot import Robot
 
 
@@ -74,27 +74,13 @@ def build_biped_model(robot: Robot) -> BipedModel:
                              expected='["left", "right"] for a biped', found=list(robot.legs))
     if robot.urdf is not None:
         return _urdf_biped_model(robot)
-    ident = pin.SE3.Identity()
-    i_body = robot.body_pitch_inertia_kgm2
-    model, jp = planar_base(robot.name, pin.Inertia(robot.body_mass_kg, np.zeros(3), np.diag([i_body, i_body, 1e-3 * i_body])))
-    hip_placement = pin.SE3(np.eye(3), np.array([robot.hip_offset_m[0], 0.0, robot.hip_offset_m[1]]))
-    model.addFrame(pin.Frame(HIP_FRAME, jp, hip_placement, pin.FrameType.OP_FRAME))
+    model, jp, hip_placement = native_body(robot)
     feet = {}
-    names = []
     for leg in robot.legs:
-        parent, placement = jp, hip_placement
         segs, joints = robot.leg_description(leg)
-        for seg, joint in zip(segs, joints):
-            name = f"{leg}_{joint.name}"
-            j = model.addJoint(parent, pin.JointModelRY(), placement, name,
-                               max_effort=np.array([np.inf]), max_velocity=np.array([np.inf]),
-                               min_config=np.array([joint.lower_rad]), max_config=np.array([joint.upper_rad]))
-            model.appendBodyToJoint(j, _segment_inertia(seg.mass_kg, seg.com_m, seg.inertia_kgm2), ident)
-            model.addFrame(pin.Frame(f"{leg}_{seg.name}", j, ident, pin.FrameType.BODY))
-            names.append(name)
-            parent, placement = j, pin.SE3(np.eye(3), np.array([0.0, 0.0, -seg.length_m]))
-        feet[leg] = model.addFrame(pin.Frame(f"{leg}_{FOOT_FRAME}", parent, placement, pin.FrameType.OP_FRAME))
-    return _wrap(robot, model, tuple(names), feet, model.getFrameId(HIP_FRAME, pin.FrameType.OP_FRAME))
+        feet[leg] = add_native_chain(model, jp, hip_placement, segs, joints, prefix=f"{leg}_")
+    names = tuple(robot.limb_joint_names)
+    return _wrap(robot, model, names, feet, model.getFrameId(HIP_FRAME, pin.FrameType.OP_FRAME))
 
 
 def _urdf_biped_model(robot: Robot) -> BipedModel:

@@ -110,21 +110,34 @@ def build_leg_model(robot: Robot) -> LegModel:
         from .urdf_reader import build_urdf_leg_model
 
         return build_urdf_leg_model(robot)
-    ident = pin.SE3.Identity()
+    model, jp, hip_placement = native_body(robot)
+    add_native_chain(model, jp, hip_placement, robot.segments, robot.joints)
+    return index_model(model, robot.joint_names, FOOT_FRAME, HIP_FRAME)
+
+
+def native_body(robot: Robot) -> tuple[pin.Model, int, pin.SE3]:
+    """The planar base carrying a native robot's body, with the 'hip' frame: (model, pitch joint id,
+    hip placement)."""
     i_body = robot.body_pitch_inertia_kgm2
     model, jp = planar_base(robot.name, pin.Inertia(robot.body_mass_kg, np.zeros(3), np.diag([i_body, i_body, 1e-3 * i_body])))
     hip_placement = pin.SE3(np.eye(3), np.array([robot.hip_offset_m[0], 0.0, robot.hip_offset_m[1]]))
     model.addFrame(pin.Frame(HIP_FRAME, jp, hip_placement, pin.FrameType.OP_FRAME))
-    parent, placement = jp, hip_placement
-    for seg, joint in zip(robot.segments, robot.joints):
-        j = model.addJoint(parent, pin.JointModelRY(), placement, joint.name,
+    return model, jp, hip_placement
+
+
+def add_native_chain(model: pin.Model, parent: int, placement: pin.SE3, segments, joints, prefix: str = "") -> int:
+    """One leg of RY joints from ``parent`` at ``placement``: each segment hangs along -z from its joint,
+    joints and segment frames named ``prefix`` + name, the foot frame ``prefix`` + 'foot' at the distal
+    end; returns the foot frame's id."""
+    ident = pin.SE3.Identity()
+    for seg, joint in zip(segments, joints):
+        j = model.addJoint(parent, pin.JointModelRY(), placement, prefix + joint.name,
                            max_effort=np.array([np.inf]), max_velocity=np.array([np.inf]),
                            min_config=np.array([joint.lower_rad]), max_config=np.array([joint.upper_rad]))
         model.appendBodyToJoint(j, _segment_inertia(seg.mass_kg, seg.com_m, seg.inertia_kgm2), ident)
-        model.addFrame(pin.Frame(seg.name, j, ident, pin.FrameType.BODY))
+        model.addFrame(pin.Frame(prefix + seg.name, j, ident, pin.FrameType.BODY))
         parent, placement = j, pin.SE3(np.eye(3), np.array([0.0, 0.0, -seg.length_m]))
-    model.addFrame(pin.Frame(FOOT_FRAME, parent, placement, pin.FrameType.OP_FRAME))
-    return index_model(model, robot.joint_names, FOOT_FRAME, HIP_FRAME)
+    return model.addFrame(pin.Frame(prefix + FOOT_FRAME, parent, placement, pin.FrameType.OP_FRAME))
 
 
 _CACHE: dict = {}
