@@ -114,3 +114,15 @@ class SchedulerError(LegbridgeError, ConnectionError):
 
 class CorrectedTargetsError(LegbridgeError, ValueError):
     """The modified targets cannot be written (no QP result, a failed QP, an unmarked file name)."""
+
+
+class LogFormatError(LegbridgeError, ValueError):
+    """A hardware log or its column mapping cannot be read (unknown or missing column, unit, bad value)."""
+
+
+class AlignmentError(LegbridgeError, ValueError):
+    """A hardware log cannot be credibly aligned with the reviewed targets (no sync, no matching motion)."""
+
+
+class IdentificationError(LegbridgeError, ValueError):
+    """A parameter cannot be identified from the log (too few samples, no excitation, a singular fit)."""
