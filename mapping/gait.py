@@ -14,6 +14,7 @@ which leg stands (codes 0 left, 1 right, 2 both, -1 none = flight) and which sta
 """
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 import math
 from collections.abc import Mapping
@@ -163,10 +164,10 @@ def assign_legs(stance, gait: Gait) -> LegPhases:
     raw = np.asarray(stance)
     if raw.ndim != 1 or raw.shape[0] == 0:
         raise PlanFormatError("stance is not a non-empty sequence", key="stance",
-                              expected="a (n,) bool array with n >= 1", found=f"shape {raw.shape}")
+                              expected="a (n,) bool array with n >= 1", found=Described(f"shape {raw.shape}"))
     if raw.dtype != bool and not (np.issubdtype(raw.dtype, np.number) and np.all((raw == 0) | (raw == 1))):
         raise PlanFormatError("stance holds values other than true/false", key="stance",
-                              expected="bool values (or 0/1)", found=f"dtype {raw.dtype}")
+                              expected="bool values (or 0/1)", found=Described(f"dtype {raw.dtype}"))
     s = raw.astype(bool)
     n = s.shape[0]
     runs = stance_runs(s)

@@ -53,6 +53,7 @@ the pose returned is the closest reachable one along that direction (leg straigh
 """
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 import math
 from dataclasses import dataclass
@@ -226,7 +227,7 @@ def planar_chain(leg: LegModel) -> PlanarChain:
     ids = _leg_joint_ids(leg)
     if model.frames[leg.hip_frame_id].parentJoint >= ids[0]:
         raise UsageError("the hip frame must be fixed to the body", expected="a hip frame above the first leg joint",
-                         found=f"frame on joint '{model.names[model.frames[leg.hip_frame_id].parentJoint]}'")
+                         found=Described(f"frame on joint '{model.names[model.frames[leg.hip_frame_id].parentJoint]}'"))
 
     def positions(q):
         qf = pin.neutral(model)

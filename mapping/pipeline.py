@@ -8,6 +8,7 @@ name. Bad input raises a LegbridgeError subclass before anything is translated.
 """
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 import math
 import os
@@ -142,7 +143,7 @@ def check_memory(plan: Plan, robot: Robot, rate_hz: float, cases=None) -> None:
             f"{len(chosen)} case(s) of up to {longest:g} s at {rate_hz:g} Hz ({max(samples, default=0)} samples per case) "
             f"need about {need / 1e9:.2f} GB, {have / 1e9:.2f} GB available", key="--rate",
             expected=f"a request within {MEMORY_SHARE:.0%} of the available memory",
-            found=f"{need / 1e9:.2f} GB",
+            found=Described(f"{need / 1e9:.2f} GB"),
             hint="lower --rate, check fewer cases (translate --case), or split the plan into shorter parts")
 
 

@@ -16,6 +16,7 @@ so ``read_plan(write_plan(plan, p))`` gives back the same cases, metadata and po
 """
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 import csv
 import io
@@ -148,7 +149,7 @@ def _write_json(plan: Plan, fh, path: str) -> None:
 def _write_csv(plan: Plan, fh, path: str) -> None:
     if plan.policy is not None:
         raise PlanFormatError("a CSV plan has no place for the policy", path=path, key="policy",
-                              expected="a plan without a policy, or a .json/.npz/.mat file", found="a policy")
+                              expected="a plan without a policy, or a .json/.npz/.mat file", found=Described("a policy"))
     lines = [f"# format = {FORMAT_TAG}", "# units = si"]
     lines += [f"# {k} = {v!r}" for k, v in _scale_entries(plan).items()]
     for k, v in _flat(_free_metadata(plan), path, "metadata").items():
@@ -263,5 +264,5 @@ def write_plan(plan: Plan, path, *, force: bool = False) -> Path:
     fmt = _format_of(p)
     refuse_existing(p, force)
     if not plan.cases:
-        raise PlanFormatError("the plan has no cases", path=str(p), expected="at least one case", found="none")
+        raise PlanFormatError("the plan has no cases", path=str(p), expected="at least one case", found=Described("none"))
     return write_atomic(p, lambda fh: _WRITERS[fmt](plan, fh, str(p)), force=force)

@@ -32,6 +32,7 @@ The rule, per leg (the legs' stances come from :func:`legbridge.mapping.gait.ass
 """
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 import math
 from dataclasses import dataclass
@@ -69,7 +70,7 @@ class LegChannel:
                                       found=type(getattr(self, name)).__name__) from exc
             if a.ndim != 1:
                 raise PlanFormatError("channel is not one-dimensional", key=name, expected="shape (n,)",
-                                      found=f"shape {a.shape}")
+                                      found=Described(f"shape {a.shape}"))
             arrays.append(a)
         if not (arrays[0].shape == arrays[1].shape == arrays[2].shape):
             raise PlanFormatError("value, rate and accel differ in length", key="value/rate/accel",
@@ -122,7 +123,7 @@ def hermite5(t, t0: float, t1: float, start, end) -> tuple[np.ndarray, np.ndarra
     t = np.asarray(t, dtype=float)
     big_t = float(t1) - float(t0)
     if not big_t > 0.0:
-        raise PlanFormatError("swing span has no duration", key="time_s", expected="t1 > t0", found=f"{t0!r}, {t1!r}")
+        raise PlanFormatError("swing span has no duration", key="time_s", expected="t1 > t0", found=Described(f"{t0!r}, {t1!r}"))
     p0, v0, a0 = (float(x) for x in start)
     p1, v1, a1 = (float(x) for x in end)
     d = p1 - p0
@@ -146,7 +147,7 @@ def clearance_bump(t, t0: float, t1: float, clearance_m: float) -> tuple[np.ndar
     t = np.asarray(t, dtype=float)
     big_t = float(t1) - float(t0)
     if not big_t > 0.0:
-        raise PlanFormatError("swing span has no duration", key="time_s", expected="t1 > t0", found=f"{t0!r}, {t1!r}")
+        raise PlanFormatError("swing span has no duration", key="time_s", expected="t1 > t0", found=Described(f"{t0!r}, {t1!r}"))
     s = (t - float(t0)) / big_t
     u = s * (1.0 - s)
     w = 1.0 - 2.0 * s
@@ -167,7 +168,7 @@ def _as_channel(ch, key: str, n: int) -> LegChannel:
                               found=ch.n_samples)
     if not (np.all(np.isfinite(ch.value)) and np.all(np.isfinite(ch.rate)) and np.all(np.isfinite(ch.accel))):
         raise PlanFormatError("channel holds a non-finite number", key=key, expected="finite values",
-                              found="NaN or inf")
+                              found=Described("NaN or inf"))
     return ch
 
 
@@ -237,10 +238,10 @@ def leg_motions(time_s, length, angle, plan_stance, phases: LegPhases, clearance
     t = np.asarray(time_s, dtype=float)
     if t.ndim != 1 or t.shape[0] == 0:
         raise PlanFormatError("time is not a non-empty sequence", key="time_s", expected="a (n,) array with n >= 1",
-                              found=f"shape {t.shape}")
+                              found=Described(f"shape {t.shape}"))
     if not np.all(np.isfinite(t)):
         raise PlanFormatError("time holds a non-finite number", key="time_s", expected="finite times",
-                              found="NaN or inf")
+                              found=Described("NaN or inf"))
     steps = np.diff(t)  # equal times are allowed: a phase end shares its time with a grid sample (mapping.resample)
     if np.any(steps < 0.0):
         i = int(np.flatnonzero(steps < 0.0)[0]) + 1
@@ -252,7 +253,7 @@ def leg_motions(time_s, length, angle, plan_stance, phases: LegPhases, clearance
     s = np.asarray(plan_stance)
     if s.shape != (n,):
         raise PlanFormatError("plan stance length differs from time_s", key="plan_stance", expected=f"shape ({n},)",
-                              found=f"shape {s.shape}")
+                              found=Described(f"shape {s.shape}"))
     s = s.astype(bool)
     if not isinstance(phases, LegPhases):
         raise PlanFormatError("not a leg assignment", key="phases", expected="a LegPhases (assign_legs)",
@@ -263,7 +264,7 @@ def leg_motions(time_s, length, angle, plan_stance, phases: LegPhases, clearance
     if not np.array_equal(phases.stance_index >= 0, s):
         raise PlanFormatError("leg assignment does not match the plan's stance", key="phases",
                               expected="assign_legs of this plan_stance",
-                              found=f"{int(np.count_nonzero((phases.stance_index >= 0) != s))} samples differing")
+                              found=Described(f"{int(np.count_nonzero((phases.stance_index >= 0) != s))} samples differing"))
     try:
         clearance = float(clearance_m)
     except (TypeError, ValueError):
@@ -276,7 +277,7 @@ def leg_motions(time_s, length, angle, plan_stance, phases: LegPhases, clearance
         height = np.asarray(hip_height_m, dtype=float)
         if height.shape != (n,) or not np.all(np.isfinite(height)):
             raise PlanFormatError("hip height is not a finite (n,) array", key="hip_height_m",
-                                  expected=f"shape ({n},), finite", found=f"shape {height.shape}")
+                                  expected=f"shape ({n},), finite", found=Described(f"shape {height.shape}"))
     gait = phases.gait
     if gait.kind == "same-leg" and gait.held_leg_length_m is None:
         raise PlanFormatError("held leg length not filled in", key="gait.held_leg_length_m",

@@ -18,6 +18,7 @@ chain's (robots.urdf_reader.build_urdf_leg_model).
 """
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 from dataclasses import dataclass
 
@@ -88,7 +89,7 @@ def _urdf_biped_model(robot: Robot) -> BipedModel:
 
     if not robot.urdf.leg_chains:
         raise RobotFileError("a URDF biped names both legs' chains", path=robot.source or None, key="urdf.legs",
-                             expected="[urdf.legs.left] and [urdf.legs.right]", found="one chain ([urdf] foot_link)")
+                             expected="[urdf.legs.left] and [urdf.legs.right]", found=Described("one chain ([urdf] foot_link)"))
     parts = build_urdf_biped_parts(robot)
     if parts.joint_names != robot.limb_joint_names:  # the trajectory's order is the Robot's
         raise RobotFileError("the URDF biped model's joints are not the robot's", path=robot.source or None,

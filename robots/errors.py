@@ -50,7 +50,14 @@ class LegbridgeError(Exception):
         super().__init__(text)
 
 
+class Described(str):
+    """What was found, described in words ("nothing", "a folder", "3 columns"): shown as written,
+    where a value taken from the input is shown quoted (so blanks and case are visible)."""
+
+
 def _show(value: object) -> str:
+    if isinstance(value, Described):
+        return str(value)
     if isinstance(value, str):
         return repr(value)
     if isinstance(value, float):

@@ -1,6 +1,7 @@
 """Typed, validated look-ups in parsed TOML tables, with messages naming file and key."""
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 import math
 from collections.abc import Iterable, Mapping
@@ -49,7 +50,7 @@ class Table:
             val = float(val)
         except OverflowError:
             raise RobotFileError(path=self.path, key=self.key(name), expected="a number of ordinary size",
-                                 found=f"an integer of {len(str(val))} digits") from None
+                                 found=Described(f"an integer of {len(str(val))} digits")) from None
         if not math.isfinite(val):
             raise RobotFileError(path=self.path, key=self.key(name), expected="a finite number", found=val)
         if abs(val) > MAX_MAGNITUDE:

@@ -8,6 +8,7 @@ reader sees the old file or the whole new one, never a part. An existing file is
 """
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 import os
 import tempfile
@@ -24,14 +25,14 @@ def _umask() -> int:
     return mask
 
 
-FORCE_HINT = "pass --force (force=True) to replace it"
+FORCE_HINT = "pass --force to replace it"
 
 
 def refuse_existing(path: str | Path, force: bool) -> Path:
     """Raise OutputExistsError when ``path`` exists and ``force`` is false; return it as a Path."""
     p = Path(path)
     if p.exists() and not force:
-        raise OutputExistsError("output file exists", path=str(p), expected="a new file name", found="an existing file",
+        raise OutputExistsError("output file exists", path=str(p), expected="a new file name", found=Described("an existing file"),
                                 hint=FORCE_HINT)
     return p
 
@@ -77,13 +78,13 @@ def check_outputs(outputs, *, inputs=(), force: bool = False) -> tuple[Path, ...
         for other in outs[:k]:
             if _same_file(o, other):
                 raise OutputExistsError("two outputs name the same file", path=str(o), expected="distinct output files",
-                                        found=f"{other} and {o}")
+                                        found=Described(f"{other} and {o}"))
         for i in ins:
             if _same_file(o, i):
                 raise OutputExistsError("refusing to overwrite an input file", path=str(o),
                                         hint="choose another output name (--force never applies to inputs)")
         if o.is_dir():
-            raise OutputFolderError("output path is a folder", path=str(o), expected="a file name", found="a folder")
+            raise OutputFolderError("output path is a folder", path=str(o), expected="a file name", found=Described("a folder"))
         refuse_existing(o, force)
         folder = o.parent if str(o.parent) else Path(".")
         if not folder.is_dir():
@@ -97,7 +98,7 @@ def refuse_unwritable(folder: Path) -> None:
     read-only destination is found before the computation, not after it)."""
     if not os.access(folder, os.W_OK | os.X_OK):
         raise OutputFolderError("cannot write in the output folder", path=str(folder),
-                                expected="a folder this user may write in", found="no write permission",
+                                expected="a folder this user may write in", found=Described("no write permission"),
                                 hint="choose another folder or change its permissions")
 
 
@@ -106,7 +107,7 @@ def check_output_folder(out_dir: str | Path, names, *, inputs=(), force: bool = 
     one of ``names`` would replace an input file (whatever ``force`` says). The folder may not exist yet."""
     out = Path(out_dir)
     if out.exists() and not out.is_dir():
-        raise OutputFolderError(path=str(out), expected="a folder for the outputs", found="a file")
+        raise OutputFolderError(path=str(out), expected="a folder for the outputs", found=Described("a file"))
     for n in names:
         for i in with_referenced_files(inputs):
             if i is not None and _same_file(out / n, Path(i)):
@@ -116,7 +117,7 @@ def check_output_folder(out_dir: str | Path, names, *, inputs=(), force: bool = 
         present = [n for n in names if (out / n).exists()]
         if present:
             raise OutputExistsError("previous outputs in the folder", path=str(out), expected="a folder without them",
-                                    found=", ".join(present), hint=FORCE_HINT)
+                                    found=Described(", ").join(present), hint=FORCE_HINT)
     # the folder, or the nearest existing folder above it (where it will be created), must be writable
     probe = out if out.is_dir() else next((p for p in out.absolute().parents if p.is_dir()), Path("."))
     refuse_unwritable(probe)
@@ -134,7 +135,7 @@ def write_atomic(path: str | Path, data: bytes | str | Callable[[BinaryIO], None
     if not folder.is_dir():
         raise OutputFolderError("output folder does not exist", path=str(folder), hint="create it first")
     if p.is_dir():
-        raise OutputFolderError("output path is a folder", path=str(p), expected="a file name", found="a folder")
+        raise OutputFolderError("output path is a folder", path=str(p), expected="a file name", found=Described("a folder"))
     try:
         fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".tmp", dir=folder)
     except OSError as exc:

@@ -8,6 +8,7 @@ frame sits at the distal end of the last segment. Zero joint angles: the leg han
 """
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 from dataclasses import dataclass
 
@@ -74,7 +75,7 @@ def index_model(model: pin.Model, leg_joints: tuple[str, ...], foot_frame: str, 
     for name in BASE_JOINTS + leg_joints:
         j = model.joints[jid(name)]
         if j.nq != 1 or j.nv != 1:
-            raise RobotFileError(f"joint '{name}' must have one coordinate", expected="nq = nv = 1", found=f"nq = {j.nq}")
+            raise RobotFileError(f"joint '{name}' must have one coordinate", expected="nq = nv = 1", found=Described(f"nq = {j.nq}"))
     q_index = np.array([model.joints[jid(n)].idx_q for n in leg_joints])
     v_index = np.array([model.joints[jid(n)].idx_v for n in leg_joints])
     bq = np.array([model.joints[jid(n)].idx_q for n in BASE_JOINTS])

@@ -13,6 +13,7 @@ Joint i moves segment i; joint tables are matched to segments in file order. A f
 """
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 import hashlib
 import tomllib
@@ -37,12 +38,12 @@ def read_bytes(path: str | Path) -> bytes:
     """The bytes of an input file; InputFileNotFound when it does not exist."""
     p = Path(path)
     if p.is_dir():
-        raise InputFileNotFound("this is a folder", path=str(p), expected="a robot file", found="a folder")
+        raise InputFileNotFound("this is a folder", path=str(p), expected="a robot file", found=Described("a folder"))
     if not p.is_file():
         raise InputFileNotFound("file not found", path=str(p))
     if p.stat().st_size > MAX_ROBOT_FILE_BYTES:
         raise RobotFileError("robot file too large", path=str(p), expected=f"at most {MAX_ROBOT_FILE_BYTES // 1_000_000} MB",
-                             found=f"{p.stat().st_size / 1e6:.1f} MB")
+                             found=Described(f"{p.stat().st_size / 1e6:.1f} MB"))
     try:
         return p.read_bytes()
     except OSError as exc:
@@ -59,7 +60,7 @@ def parse_toml(data: bytes, path: str) -> dict:
         raise RobotFileError(f"not valid TOML ({exc})", path=path) from exc
     except RecursionError as exc:
         raise RobotFileError("TOML nested too deeply", path=path, expected="tables a few levels deep",
-                             found="thousands of nested levels") from exc
+                             found=Described("thousands of nested levels")) from exc
 
 
 def read_spring(t: Table) -> Spring | None:
@@ -127,7 +128,7 @@ def read_leg(top: Table, path: str, prefix: str) -> tuple[tuple[Segment, ...], t
     segs_raw = top.raw("segments")
     if not isinstance(segs_raw, list) or not 2 <= len(segs_raw) <= 3:
         raise RobotFileError(path=path, key=prefix + "segments", expected="2 or 3 [[segments]] tables (hip to foot)",
-                             found=f"{len(segs_raw) if isinstance(segs_raw, list) else type(segs_raw).__name__}")
+                             found=Described(f"{len(segs_raw) if isinstance(segs_raw, list) else type(segs_raw).__name__}"))
     segments = tuple(read_segment(Table(s, path, f"{prefix}segments[{i}]")) for i, s in enumerate(segs_raw))
     names = [s.name for s in segments]
     for i, n in enumerate(names):
@@ -139,7 +140,7 @@ def read_leg(top: Table, path: str, prefix: str) -> tuple[tuple[Segment, ...], t
     jt = top.table("joints")
     if len(jt.data) != len(segments):
         raise RobotFileError(path=path, key=prefix + "joints", expected=f"{len(segments)} joint tables (one per segment)",
-                             found=f"{len(jt.data)} ({list(jt.data)})")
+                             found=Described(f"{len(jt.data)} ({list(jt.data)})"))
     joints = []
     for jname in jt.data:
         jt.used.add(jname)
@@ -169,7 +170,7 @@ def robot_from_toml(doc: dict, path: str, sha256: str, *, extra_sections: tuple[
     if top.has("right"):
         if not legs:
             raise RobotFileError("a [right] leg needs a biped", path=path, key="right",
-                                 expected='legs = ["left", "right"] in [robot]', found="one leg")
+                                 expected='legs = ["left", "right"] in [robot]', found=Described("one leg"))
         right_segments, right_joints = read_leg(top.table("right"), path, "right.")
         if tuple(j.name for j in right_joints) != tuple(j.name for j in joints):
             raise RobotFileError("the right leg's joints are not the left leg's", path=path, key="right.joints",

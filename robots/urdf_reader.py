@@ -47,6 +47,7 @@ inertias, frames '<leg>_foot' (foot link + offset) and 'hip' at the left chain's
 """
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 import hashlib
 import math
@@ -121,7 +122,7 @@ def _check_inertial(link, path: str) -> None:
     if eig[0] < -tol or eig[2] > eig[0] + eig[1] + tol:
         raise RobotFileError(f"link '{name}' has an inertia no rigid body has", path=path, key=f"link '{name}' <inertia>",
                              expected="a positive semi-definite tensor whose principal moments obey the triangle inequality",
-                             found=f"principal moments {np.round(eig, 9).tolist()}")
+                             found=Described(f"principal moments {np.round(eig, 9).tolist()}"))
 
 
 def parse_urdf(text: str, path: str) -> UrdfTree:
@@ -131,7 +132,7 @@ def parse_urdf(text: str, path: str) -> UrdfTree:
     except ET.ParseError as exc:
         raise RobotFileError(f"not valid XML ({exc})", path=path) from exc
     if root.tag != "robot":
-        raise RobotFileError("not a URDF", path=path, expected="a <robot> root element", found=f"<{root.tag}>")
+        raise RobotFileError("not a URDF", path=path, expected="a <robot> root element", found=Described(f"<{root.tag}>"))
     links = tuple(el.get("name") for el in root.findall("link"))
     for el in root.findall("link"):
         _check_inertial(el, path)
@@ -152,7 +153,7 @@ def parse_urdf(text: str, path: str) -> UrdfTree:
     twice = sorted({c for c in jchild.values() if list(jchild.values()).count(c) > 1}) if len(children) < len(jchild) else []
     if twice:
         raise RobotFileError("URDF must be one tree", path=path, expected="one parent joint per link",
-                             found=f"links with two parents: {twice[:5]}")
+                             found=Described(f"links with two parents: {twice[:5]}"))
     roots = [lk for lk in links if lk not in children]
     if len(roots) != 1:
         raise RobotFileError("URDF must be one tree", path=path, expected="exactly one root link", found=roots)
@@ -167,7 +168,7 @@ def parse_urdf(text: str, path: str) -> UrdfTree:
     unknown = sorted({x for x in list(jparent.values()) + list(jchild.values()) if x not in set(links)})
     if missing or unknown:
         raise RobotFileError("URDF must be one tree", path=path, expected="every link below the root, joints between links",
-                             found=f"not reached from '{roots[0]}': {missing[:5]}" if missing else f"unknown links: {unknown[:5]}")
+                             found=Described(f"not reached from '{roots[0]}': {missing[:5]}") if missing else f"unknown links: {unknown[:5]}")
     return UrdfTree(path, text, links, jtype, jparent, jchild, roots[0])
 
 
@@ -308,8 +309,8 @@ def _pitch_chain_ids(red: pin.Model, data, names, hip_link: str, tree: UrdfTree)
                     else "lock it in [urdf] locked, or name the sagittal chain that is left")
             raise RobotFileError(f"joint '{name}' is not a pitch joint", path=tree.path, key=f"joint '{name}'",
                                  expected="a revolute joint about +y (after locking the other joints)",
-                                 found=f"{red.joints[jid].shortname()} with world axis "
-                                       f"{None if world_axis is None else np.round(world_axis, 6).tolist()}",
+                                 found=Described(f"{red.joints[jid].shortname()} with world axis "
+                                                 f"{None if world_axis is None else np.round(world_axis, 6).tolist()}"),
                                  hint=hint)
     return ids
 
@@ -734,7 +735,7 @@ def robot_from_urdf_toml(doc: dict, path: str, sha256: str) -> Robot:
         raise RobotFileError("per-leg chains describe a biped", path=path, key="urdf.legs",
                              expected='[robot] legs = ["left", "right"] with [urdf.legs.left] and [urdf.legs.right], '
                                       "or foot_link in [urdf] for one leg",
-                             found="[urdf.legs] without [robot] legs")
+                             found=Described("[urdf.legs] without [robot] legs"))
     file_rel = u.string("file")
     hip_link = u.string("hip_link")
     foot_link = u.string("foot_link")
@@ -796,21 +797,21 @@ def _biped_from_urdf_toml(top: Table, u: Table, path: str, legs: tuple[str, ...]
         if u.has(key):
             raise RobotFileError(f"a biped names its chains per leg: '{key}' goes in [urdf.legs.<leg>]", path=path,
                                  key=f"urdf.{key}", expected=f"[urdf.legs.{legs[0]}] and [urdf.legs.{legs[1]}] tables",
-                                 found=f"'{key}' in [urdf]")
+                                 found=Described(f"'{key}' in [urdf]"))
     lk = u.table("locked", {})
     locked = {jn: lk.number(jn) for jn in list(lk.data)}
     if not u.has("legs"):
         raise RobotFileError("missing key", path=path, key="urdf.legs",
                              expected=f"[urdf.legs.{legs[0]}] and [urdf.legs.{legs[1]}] tables (foot_link, optional "
                                       "foot_offset_m and leg_joints), one per leg",
-                             found="no [urdf.legs] tables")
+                             found=Described("no [urdf.legs] tables"))
     lt = u.table("legs")
     given = {}
     for leg in legs:
         if not lt.has(leg):
             raise RobotFileError("missing leg chain", path=path, key=f"urdf.legs.{leg}",
                                  expected=f"a [urdf.legs.{leg}] table with foot_link (optional foot_offset_m, leg_joints)",
-                                 found=f"tables for {sorted(lt.data)}")
+                                 found=Described(f"tables for {sorted(lt.data)}"))
         t = lt.table(leg)
         given[leg] = (t.string("foot_link"), _foot_offset(t), _string_list(t, "leg_joints"))
         t.refuse_unknown()
@@ -845,7 +846,7 @@ def _biped_from_urdf_toml(top: Table, u: Table, path: str, legs: tuple[str, ...]
         raise RobotFileError(path=path, key="joints",
                              expected=f"{n} joint tables named by chain position, hip to foot (e.g. [joints.hip], "
                                       "[joints.knee]), each used for both legs",
-                             found=f"{len(positions)} ({list(positions)})")
+                             found=Described(f"{len(positions)} ({list(positions)})"))
     named_after_urdf = [p for p in positions if p in tree.joint_type]
     if named_after_urdf:
         raise RobotFileError("a biped's joint tables are named by chain position (one table for both legs), "

@@ -6,6 +6,7 @@ to stderr (one short line per stage) when stderr is a terminal.
 """
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 import argparse
 import sys
@@ -50,13 +51,13 @@ def run(args: argparse.Namespace) -> int:
 
     if args.demo and (args.plan or args.robot):
         raise UsageError("--demo reviews the shipped demo plan", key="--demo",
-                         expected="either --demo or PLAN with --robot", found="both")
+                         expected="either --demo or PLAN with --robot", found=Described("both"))
     if not args.demo and not (args.plan and args.robot):
         missing = " and ".join(x for x, v in (("PLAN", args.plan), ("--robot ROBOT", args.robot)) if not v)
         raise UsageError("a plan and a robot are needed", key="PLAN/--robot",
-                         expected="a plan file and --robot ROBOT (or --demo)", found=f"no {missing}")
+                         expected="a plan file and --robot ROBOT (or --demo)", found=Described(f"no {missing}"))
     if args.no_sweep and args.ground_offsets is not None:
-        raise UsageError(key="--ground-offsets", expected="either --ground-offsets LO:HI:N or --no-sweep", found="both")
+        raise UsageError(key="--ground-offsets", expected="either --ground-offsets LO:HI:N or --no-sweep", found=Described("both"))
     settings = settings_from_args(args)
     jobs = jobs_from_args(args)
     sweep = None if args.no_sweep else (offsets_from_args(args) or SWEEP_AUTO)

@@ -13,6 +13,7 @@ differences the QP bounds by the speed limit; the last sample repeats the one be
 """
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 import io
 import json
@@ -33,7 +34,7 @@ def modified_motion(review) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     sol = review.motion_qp
     if sol is None:
         raise CorrectedTargetsError(f"case '{review.case}': the nearest-motion QP was not run", key="run_qps",
-                                    expected="the QPs run (the default)", found="not run")
+                                    expected="the QPs run (the default)", found=Described("not run"))
     if not sol.ok:
         raise CorrectedTargetsError(f"case '{review.case}': the nearest-motion QP did not solve",
                                     expected="an optimal solution", found=sol.status)

@@ -11,6 +11,7 @@ with os.replace, so a failure leaves the folder as it was.
 """
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 import contextlib
 import os
@@ -102,7 +103,7 @@ class FolderLock:
                     pid = 0
                 if pid and _alive(pid):
                     raise OutputFolderError("another legbridge run is writing this folder", path=str(self.path.parent),
-                                            expected="one run per output folder", found=f"run {pid} (lock {self.path.name})",
+                                            expected="one run per output folder", found=Described(f"run {pid} (lock {self.path.name})"),
                                             hint="wait for it, or choose another folder") from None
                 self.path.unlink(missing_ok=True)  # left by a run that ended without cleaning up
                 continue

@@ -20,6 +20,7 @@ difference ``dvx_m_s`` [m/s]; RMS over the paired apexes and the last paired one
 """
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 import math
 from dataclasses import dataclass, field
@@ -120,7 +121,7 @@ def setup_from_plan(plan: Plan) -> SimSetup:
     if plan.policy is None:
         raise SweepInputError(key="policy", path=plan.path,
                               expected="an open-loop policy (time_s, actuator_length_m, touchdown_angle_rad)",
-                              found="none", hint="a sweep re-simulates the plan's policy; CSV plans carry none, use a JSON, NPZ or MAT plan")
+                              found=Described("none"), hint="a sweep re-simulates the plan's policy; CSV plans carry none, use a JSON, NPZ or MAT plan")
     try:
         params, policy, apex = params_from_plan(plan), policy_from_plan(plan), initial_apex_from_plan(plan)
     except SlipInputError as exc:
@@ -136,7 +137,7 @@ def setup_from_plan(plan: Plan) -> SimSetup:
     if duration is None or rate is None or not (duration > 0 and rate > 0):
         raise SweepInputError(key="metadata.duration_s/rate_hz", path=plan.path,
                               expected="a positive duration and sample rate (or cases to take them from)",
-                              found=f"{duration}/{rate}")
+                              found=Described(f"{duration}/{rate}"))
     swing = meta.get("flight_swing", "whole-flight")
     from legbridge.mapping.slip.simulate import FLIGHT_SWINGS
 
@@ -336,7 +337,7 @@ def sweep_window(results) -> SweepWindow:
     """The window of a sweep's offsets (any order in, sorted by offset inside); pure function."""
     rs = sorted(results, key=lambda r: r.offset_m)
     if not rs:
-        raise SweepInputError(key="results", expected="at least one offset", found="none")
+        raise SweepInputError(key="results", expected="at least one offset", found=Described("none"))
     ok = [r.within for r in rs]
     a = min(range(len(rs)), key=lambda i: (abs(rs[i].offset_m), rs[i].offset_m))
     if not ok[a]:

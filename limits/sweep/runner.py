@@ -15,6 +15,7 @@ results are deterministic per offset, so they do not depend on the number of wor
 """
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 import multiprocessing
 import os
@@ -57,7 +58,7 @@ def _robot_from_file(path: str, sha256: str):
     robot = load_robot(path)
     if robot.sha256 != sha256:
         raise SweepInputError("the robot file differs from the one the sweep started with", path=path,
-                              expected=f"SHA-256 {sha256[:12]}...", found=f"{robot.sha256[:12]}...",
+                              expected=f"SHA-256 {sha256[:12]}...", found=Described(f"{robot.sha256[:12]}..."),
                               hint="on a cluster every worker must see the same file at the same path")
     return robot
 
@@ -313,11 +314,11 @@ def run_sweep(plans, robots, offsets=None, *, settings: CheckSettings | None = N
         raise SweepInputError(key="--qps", expected=f"one of {list(QP_MODES)}", found=qps)
     plans, robots = list(plans), list(robots)
     if not plans or not robots:
-        raise SweepInputError(key="plans/robots", expected="at least one plan and one robot", found=f"{len(plans)}/{len(robots)}")
+        raise SweepInputError(key="plans/robots", expected="at least one plan and one robot", found=Described(f"{len(plans)}/{len(robots)}"))
     if offsets is not None:
         offsets = tuple(sorted(float(h) for h in offsets))
         if not offsets:
-            raise SweepInputError(key="offsets", expected="at least one ground height", found="none")
+            raise SweepInputError(key="offsets", expected="at least one ground height", found=Described("none"))
         if len(set(offsets)) != len(offsets):
             raise SweepInputError(key="offsets", expected="distinct ground heights", found=list(offsets))
     loaded = [as_robot(r) for r in robots]
@@ -326,7 +327,7 @@ def run_sweep(plans, robots, offsets=None, *, settings: CheckSettings | None = N
             if not (robot.source and Path(robot.source).is_file()):
                 raise SweepInputError(f"robot '{robot.name}' was not read from a file", key="--scheduler",
                                       expected="robots read from description files (Dask workers load them by path)",
-                                      found="a robot built in code")
+                                      found=Described("a robot built in code"))
     pairs, tasks = [], []
     for p in plans:
         for robot in loaded:

@@ -24,6 +24,7 @@ lines).
 """
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 import csv
 import re
@@ -65,7 +66,7 @@ def _parse_metadata(lines: list[tuple[int, str]], path: str):
             continue  # a free comment that happens to contain '='
         if key in seen:
             raise PlanFormatError(f"metadata key '{key}' given twice", path=path, row=row, key=key,
-                                  expected="each key once", found=f"also on row {seen[key]}")
+                                  expected="each key once", found=Described(f"also on row {seen[key]}"))
         seen[key] = row
         if key == "units":
             try:
@@ -112,7 +113,7 @@ def read_csv_raw(path: str) -> RawPlan:
     try:
         text = data.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
-        raise PlanFormatError("not UTF-8 text", path=path, expected="a UTF-8 CSV file", found="other bytes") from exc
+        raise PlanFormatError("not UTF-8 text", path=path, expected="a UTF-8 CSV file", found=Described("other bytes")) from exc
     lines = text.splitlines()
     head = 0
     meta_lines = []
@@ -121,7 +122,7 @@ def read_csv_raw(path: str) -> RawPlan:
             meta_lines.append((head + 1, lines[head].strip()))
         head += 1
     if head == len(lines):
-        raise PlanFormatError("no header row", path=path, expected="a header row naming the columns", found="an empty table")
+        raise PlanFormatError("no header row", path=path, expected="a header row naming the columns", found=Described("an empty table"))
     units, given, metadata, model = _parse_metadata(meta_lines, path)
 
     header_row = head + 1
@@ -147,15 +148,15 @@ def read_csv_raw(path: str) -> RawPlan:
             fields = next(csv.reader([line]))
         except csv.Error as exc:  # a cell beyond the csv module's field limit, a NUL byte...
             raise PlanFormatError(f"unreadable row ({exc})", path=path, row=k,
-                                  expected="numbers separated by commas", found=f"{len(line)} characters") from exc
+                                  expected="numbers separated by commas", found=Described(f"{len(line)} characters")) from exc
         if len(fields) != len(header):
             raise PlanFormatError("wrong number of cells", path=path, row=k,
-                                  expected=f"{len(header)} cells as in the header (row {header_row})", found=f"{len(fields)} cells")
+                                  expected=f"{len(header)} cells as in the header (row {header_row})", found=Described(f"{len(fields)} cells"))
         rows.append(k)
         cells.append(fields)
     if not cells:
         raise PlanFormatError("no data rows", path=path, row=header_row, expected="at least 2 rows below the header",
-                              found="none")
+                              found=Described("none"))
     rows_arr = np.asarray(rows)
     table = np.asarray(cells, dtype=str)
     col = {name: table[:, j] for j, name in enumerate(header)}
@@ -165,7 +166,7 @@ def read_csv_raw(path: str) -> RawPlan:
         bad = np.flatnonzero(names == "")
         if bad.size:
             raise PlanFormatError("case without a name", path=path, row=int(rows_arr[bad[0]]), key=CASE_COLUMN,
-                                  expected="a case name in every row", found="an empty cell")
+                                  expected="a case name in every row", found=Described("an empty cell"))
     else:
         names = np.full(len(rows), DEFAULT_CASE_NAME)
     starts = np.concatenate(([0], np.flatnonzero(names[1:] != names[:-1]) + 1))
@@ -175,7 +176,7 @@ def read_csv_raw(path: str) -> RawPlan:
             first = run_names.index(n)
             raise PlanFormatError(f"rows of case '{n}' are not together", path=path, row=int(rows_arr[starts[r]]),
                                   key=CASE_COLUMN, expected="rows grouped by case",
-                                  found=f"case '{n}' again (its first rows start at row {int(rows_arr[starts[first]])})")
+                                  found=Described(f"case '{n}' again (its first rows start at row {int(rows_arr[starts[first]])})"))
     ends = np.concatenate((starts[1:], [len(rows)]))
 
     numeric = {}

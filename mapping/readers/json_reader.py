@@ -24,6 +24,7 @@ a nondimensional plan uses the same names, scaled by mapping.readers.scaling.
 """
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 import json
 
@@ -70,7 +71,7 @@ def parse_json_plan(doc, path: str, sha256: str) -> RawPlan:
         raise PlanFormatError("not a legbridge plan", path=path, key="format", expected=repr(FORMAT_TAG),
                               found=doc.get("format", "no 'format' key"))
     if "units" not in doc:
-        raise PlanFormatError(path=path, key="units", expected=f"one of {list(scaling.UNITS)}", found="no 'units' key")
+        raise PlanFormatError(path=path, key="units", expected=f"one of {list(scaling.UNITS)}", found=Described("no 'units' key"))
     units = scaling.check_units(doc["units"], path)
     given = {k: scaling.positive_number(doc[k], path, k) for k in scaling.SCALE_KEYS if k in doc}
     metadata = dict(_dict(doc.get("metadata", {}), path, "metadata"))
@@ -89,7 +90,7 @@ def parse_json_plan(doc, path: str, sha256: str) -> RawPlan:
         cd = _dict(cd, path, where)
         _unknown(cd, CASE_KEYS, path, where + ".")
         if "columns" not in cd:
-            raise PlanFormatError(path=path, key=f"{where}.columns", expected="an object of columns", found="no 'columns' key")
+            raise PlanFormatError(path=path, key=f"{where}.columns", expected="an object of columns", found=Described("no 'columns' key"))
         cols_doc = _dict(cd["columns"], path, f"{where}.columns")
         name = cd.get("name")
         if not isinstance(name, str) or not name.strip():
@@ -118,12 +119,12 @@ def read_json_raw(path: str) -> RawPlan:
     try:
         doc = json.loads(data.decode("utf-8"))
     except UnicodeDecodeError as exc:
-        raise PlanFormatError("not UTF-8 text", path=path, expected="a UTF-8 JSON file", found="other bytes") from exc
+        raise PlanFormatError("not UTF-8 text", path=path, expected="a UTF-8 JSON file", found=Described("other bytes")) from exc
     except json.JSONDecodeError as exc:
         raise PlanFormatError(f"not valid JSON ({exc.msg}, line {exc.lineno} column {exc.colno})", path=path) from exc
     except RecursionError as exc:
         raise PlanFormatError("JSON nested too deeply", path=path, expected="a plan a few levels deep",
-                              found="thousands of nested levels") from exc
+                              found=Described("thousands of nested levels")) from exc
     except ValueError as exc:  # e.g. an integer of thousands of digits
         raise PlanFormatError(f"JSON value out of range ({exc})", path=path, expected="numbers of ordinary size") from exc
     return parse_json_plan(doc, path, sha)

@@ -25,6 +25,7 @@ Error messages name entries in cell/struct notation, ``cases{2}.time_s(4)`` (1-b
 """
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 import io
 
@@ -96,7 +97,7 @@ def read_mat_raw(path: str) -> RawPlan:
                 n *= int(d)
             if n > MAX_ELEMENTS:
                 raise PlanFormatError("array too large for a plan", path=path, key=name,
-                                      expected=f"at most {MAX_ELEMENTS:,} elements", found=f"shape {tuple(shape)}")
+                                      expected=f"at most {MAX_ELEMENTS:,} elements", found=Described(f"shape {tuple(shape)}"))
     except PlanFormatError:
         raise
     except Exception:  # damaged or another version: loadmat below says which
@@ -154,7 +155,7 @@ def read_mat_raw(path: str) -> RawPlan:
                 raise PlanFormatError(f"unknown field '{k}'", path=path, key=f"{where}.{k}",
                                       expected=f"only {list(CASE_FIELDS)}", found=k)
         if "name" not in cd:
-            raise PlanFormatError("case without a name", path=path, key=f"{where}.name", expected="a char name", found="none")
+            raise PlanFormatError("case without a name", path=path, key=f"{where}.name", expected="a char name", found=Described("none"))
         name = _text(cd["name"], path, f"{where}.name")
         gh = None
         if "ground_height_m" in cd:

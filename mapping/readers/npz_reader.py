@@ -20,6 +20,7 @@ Object (pickled) arrays are refused: they can run code when loaded.
 """
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 import io
 import zipfile
@@ -39,7 +40,7 @@ TOP_NAMES = ("format", "units", "case_names")
 def _text(arr: np.ndarray, path: str, key: str) -> str:
     if arr.ndim != 0 or arr.dtype.kind not in "US":
         raise PlanFormatError(path=path, key=key, expected="a single text value (0-d string array)",
-                              found=f"dtype {arr.dtype}, shape {arr.shape}")
+                              found=Described(f"dtype {arr.dtype}, shape {arr.shape}"))
     return str(arr.item())
 
 
@@ -47,7 +48,7 @@ def _scalar(arr: np.ndarray, path: str, key: str):
     """A 0-d text or number -> str / int / float."""
     if arr.ndim != 0 or arr.dtype.kind not in "USiuf":
         raise PlanFormatError(path=path, key=key, expected="a single text or number (0-d array)",
-                              found=f"dtype {arr.dtype}, shape {arr.shape}")
+                              found=Described(f"dtype {arr.dtype}, shape {arr.shape}"))
     v = arr.item()
     return v.decode() if isinstance(v, bytes) else v
 
@@ -72,7 +73,7 @@ def _check_declared_size(npz, name: str, path: str) -> None:
         n *= int(d)
     if any(int(d) < 0 for d in shape) or n > MAX_ELEMENTS:
         raise PlanFormatError("array too large for a plan", path=path, key=name,
-                              expected=f"at most {MAX_ELEMENTS:,} elements", found=f"shape {tuple(shape)}")
+                              expected=f"at most {MAX_ELEMENTS:,} elements", found=Described(f"shape {tuple(shape)}"))
 
 
 def load_npz_arrays(data: bytes, path: str) -> dict:
@@ -82,11 +83,11 @@ def load_npz_arrays(data: bytes, path: str) -> dict:
     except (ValueError, OSError, EOFError, zipfile.BadZipFile) as exc:
         if "pickle" in str(exc):  # numpy's word for bytes it cannot place; legbridge never unpickles
             raise PlanFormatError("not an NPZ archive", path=path, expected="a .npz archive of named arrays",
-                                  found="other bytes (legbridge never loads pickled data)") from exc
+                                  found=Described("other bytes (legbridge never loads pickled data)")) from exc
         raise PlanFormatError(f"not a readable NPZ file ({exc or type(exc).__name__})", path=path) from exc
     if not isinstance(npz, np.lib.npyio.NpzFile):
         raise PlanFormatError("not an NPZ archive", path=path, expected="a .npz archive of named arrays",
-                              found="a single .npy array")
+                              found=Described("a single .npy array"))
     out = {}
     with npz:
         for name in npz.files:
@@ -96,7 +97,7 @@ def load_npz_arrays(data: bytes, path: str) -> dict:
             except ValueError as exc:
                 raise PlanFormatError("pickled (object) array refused", path=path, key=name,
                                       expected="plain numeric or text arrays (loaded with allow_pickle=False)",
-                                      found="an object array", hint="Save numbers as float arrays and text as str arrays") from exc
+                                      found=Described("an object array"), hint="Save numbers as float arrays and text as str arrays") from exc
             except (OSError, zipfile.BadZipFile) as exc:
                 raise PlanFormatError(f"damaged NPZ entry ({exc})", path=path, key=name) from exc
     return out
@@ -122,7 +123,7 @@ def read_npz_raw(path: str) -> RawPlan:
     names_arr = arrays["case_names"]
     if names_arr.ndim != 1 or names_arr.dtype.kind not in "US":
         raise PlanFormatError(path=path, key="case_names", expected="a 1-d array of text",
-                              found=f"dtype {names_arr.dtype}, shape {names_arr.shape}")
+                              found=Described(f"dtype {names_arr.dtype}, shape {names_arr.shape}"))
     names = [str(n) for n in names_arr.tolist()]
 
     given, metadata, model, policy = {}, {}, None, None
@@ -160,7 +161,7 @@ def read_npz_raw(path: str) -> RawPlan:
             elif col == validation.PHASE_COLUMN:
                 if arr.ndim != 1 or arr.dtype.kind not in "US":
                     raise PlanFormatError(path=path, key=name, expected="a 1-d array of 'stance'/'flight'",
-                                          found=f"dtype {arr.dtype}, shape {arr.shape}")
+                                          found=Described(f"dtype {arr.dtype}, shape {arr.shape}"))
                 cols_by_case[i][col] = np.char.lower(np.char.strip(arr.astype(str)))
             elif col not in validation.KNOWN_COLUMNS:
                 raise PlanFormatError(f"unknown column '{col}' in case '{names[i]}'", path=path, key=name,

@@ -10,6 +10,7 @@ the body away from the foot, so the ground pushes the foot along the foot-to-hip
 """
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 from dataclasses import dataclass, field
 
@@ -115,7 +116,7 @@ def _policy(raw: RawPlan, sc) -> Policy | None:
         key = f"{raw.policy_key}{raw.policy_sep}{k}"
         if len(v) != n:
             raise PlanFormatError("policy entries differ in length", path=raw.path, key=key,
-                                  expected=f"{n} values (as time_s)", found=f"{len(v)} values")
+                                  expected=f"{n} values (as time_s)", found=Described(f"{len(v)} values"))
         bad = np.flatnonzero(~np.isfinite(v))
         if bad.size:
             i = int(bad[0])
@@ -157,7 +158,7 @@ def build_plan(raw: RawPlan, *, robot=None, force_threshold_n=None) -> Plan:
     """Validate ``raw``, scale it to SI, detect phases and return the frozen Plan."""
     thr = _check_threshold(force_threshold_n)
     if not raw.cases:
-        raise PlanFormatError("the plan has no cases", path=raw.path, expected="at least one case", found="none")
+        raise PlanFormatError("the plan has no cases", path=raw.path, expected="at least one case", found=Described("none"))
     names = [c.name for c in raw.cases]
     for i, n in enumerate(names):
         if not isinstance(n, str) or not n.strip():
@@ -236,11 +237,11 @@ def read_file_bytes(path) -> tuple[bytes, str]:
 
     p = Path(path)
     if not p.is_file():
-        raise InputFileNotFound("plan file not found", path=str(p), expected="an existing file", found="nothing")
+        raise InputFileNotFound("plan file not found", path=str(p), expected="an existing file", found=Described("nothing"))
     size = p.stat().st_size
     if size > MAX_PLAN_FILE_BYTES:
         raise PlanFormatError("plan file too large", path=str(p), expected=f"at most {MAX_PLAN_FILE_BYTES / 1e9:g} GB",
-                              found=f"{size / 1e9:.2f} GB", hint="split the plan into shorter parts")
+                              found=Described(f"{size / 1e9:.2f} GB"), hint="split the plan into shorter parts")
     data = p.read_bytes()
     return data, hashlib.sha256(data).hexdigest()
 
@@ -254,9 +255,9 @@ def as_float_array(values, path: str, key: str) -> np.ndarray:
     lists are refused with PlanFormatError naming the first bad item."""
     if isinstance(values, np.ndarray):
         if values.dtype.kind not in "iuf":
-            raise PlanFormatError(path=path, key=key, expected="an array of numbers", found=f"dtype {values.dtype}")
+            raise PlanFormatError(path=path, key=key, expected="an array of numbers", found=Described(f"dtype {values.dtype}"))
         if values.ndim != 1:
-            raise PlanFormatError(path=path, key=key, expected="a 1-D array", found=f"shape {values.shape}")
+            raise PlanFormatError(path=path, key=key, expected="a 1-D array", found=Described(f"shape {values.shape}"))
         return values.astype(float)
     if not isinstance(values, (list, tuple)):
         raise PlanFormatError(path=path, key=key, expected="a list of numbers", found=type(values).__name__)
@@ -279,7 +280,7 @@ def merge_json_entries(flat: dict | None, texts: dict, path: str, group: str, se
         key = f"{group}_json{sep}{k}"
         if k in out:
             raise PlanFormatError(f"'{k}' given twice", path=path, key=key, expected=f"each key once in {group} and {group}_json",
-                                  found=f"also {group}{sep}{k}")
+                                  found=Described(f"also {group}{sep}{k}"))
         if not isinstance(text, str):
             raise PlanFormatError(path=path, key=key, expected="JSON text", found=type(text).__name__)
         try:

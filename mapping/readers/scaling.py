@@ -9,6 +9,7 @@ gravity. The plan's own values win over the robot's.
 """
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 import math
 
@@ -82,7 +83,7 @@ def resolve_scaling(units: str, given: dict, robot, path: str) -> Scaling | None
             "a nondimensional plan needs the nominal leg length and the mass to be scaled to SI",
             path=path, key=missing[0],
             expected="the value in the plan's metadata, or a robot with nominal_leg_length_m (and its mass)",
-            found="neither" if robot is None else "no value in the plan or the robot file",
+            found=Described("neither") if robot is None else "no value in the plan or the robot file",
         )
     source = l0_src if l0_src == m_src else f"l0 from {l0_src}, mass from {m_src}"
     return Scaling(length_m=float(l0), mass_kg=float(m), gravity_m_s2=float(g), source=source)

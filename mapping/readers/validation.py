@@ -16,6 +16,7 @@ only a length that is not positive is refused.
 """
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 import numpy as np
 
@@ -98,11 +99,11 @@ def check_values(case, path: str) -> None:
         if m != n:
             raise PlanFormatError(
                 f"columns of case '{case.name}' differ in length", path=path, key=case.where(c)["key"],
-                expected=f"{n} samples (as time_s)", found=f"{m} samples",
+                expected=f"{n} samples (as time_s)", found=Described(f"{m} samples"),
             )
     if n < 2:
         raise PlanFormatError(f"case '{case.name}' is too short", path=path, key=case.where("time_s")["key"],
-                              expected="at least 2 samples", found=f"{n} sample(s)")
+                              expected="at least 2 samples", found=Described(f"{n} sample(s)"))
     for c in NUMERIC_COLUMNS:
         if c not in case.columns:
             continue
@@ -162,7 +163,7 @@ def check_forces(case, path: str, force_x_n: np.ndarray, force_z_n: np.ndarray, 
         raise PlanFormatError(
             "the ground pulls on the foot (vertical ground force below zero)", path=path, **case.where(fz_col, i),
             expected=f"force_z_n >= 0 (tolerance {tol:.3g} N, {FORCE_TOLERANCE_FRACTION:g} of the case's peak force)",
-            found=f"{force_z_n[i]:g} N",
+            found=Described(f"{force_z_n[i]:g} N"),
         )
     if phase_from_column:
         mag = np.hypot(force_x_n, force_z_n)
@@ -173,5 +174,5 @@ def check_forces(case, path: str, force_x_n: np.ndarray, force_z_n: np.ndarray, 
             raise PlanFormatError(
                 "ground force in a flight sample", path=path, **case.where(col, i),
                 expected=f"zero force in flight (|F| <= {tol:.3g} N, {FORCE_TOLERANCE_FRACTION:g} of the case's peak force)",
-                found=f"|F| = {mag[i]:g} N with phase 'flight'",
+                found=Described(f"|F| = {mag[i]:g} N with phase 'flight'"),
             )

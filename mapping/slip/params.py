@@ -6,6 +6,7 @@ spring. Axial leg force (positive = pushing the body away from the foot):
 """
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 import math
 from dataclasses import MISSING, asdict, dataclass, fields
@@ -84,7 +85,7 @@ class SpringMassParams:
         required = [f.name for f in fields(cls) if f.default is MISSING]
         missing = [n for n in required if n not in d]
         if missing:
-            raise SlipInputError(key=f"{where}.{missing[0]}", expected="a value (required)", found="nothing")
+            raise SlipInputError(key=f"{where}.{missing[0]}", expected="a value (required)", found=Described("nothing"))
         return cls(**d)
 
 

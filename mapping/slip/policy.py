@@ -7,6 +7,7 @@ sampled time range. Simulating from a plan file's policy therefore reproduces th
 """
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 import math
 from bisect import bisect_right
@@ -31,14 +32,14 @@ def make_policy(time_s, actuator_length_m, touchdown_angle_rad) -> Policy:
     ang = np.asarray(touchdown_angle_rad, dtype=float)
     for name, a in (("time_s", t), ("actuator_length_m", lact), ("touchdown_angle_rad", ang)):
         if a.ndim != 1 or a.shape[0] < 2:
-            raise SlipInputError(key=f"policy.{name}", expected="a 1-D array of at least 2 samples", found=f"shape {a.shape}")
+            raise SlipInputError(key=f"policy.{name}", expected="a 1-D array of at least 2 samples", found=Described(f"shape {a.shape}"))
         if not np.all(np.isfinite(a)):
-            raise SlipInputError(key=f"policy.{name}", expected="finite values", found="NaN or inf")
+            raise SlipInputError(key=f"policy.{name}", expected="finite values", found=Described("NaN or inf"))
     if not (lact.shape == t.shape and ang.shape == t.shape):
         raise SlipInputError(
             key="policy",
             expected=f"arrays of equal length ({t.shape[0]} time samples)",
-            found=f"actuator_length_m {lact.shape[0]}, touchdown_angle_rad {ang.shape[0]}",
+            found=Described(f"actuator_length_m {lact.shape[0]}, touchdown_angle_rad {ang.shape[0]}"),
         )
     if t[0] != 0.0:
         raise SlipInputError(key="policy.time_s[0]", expected="0 (time since apex)", found=float(t[0]))
@@ -63,7 +64,7 @@ def policy_from_functions(
 ) -> Policy:
     """Sample analytic policy functions of the time since apex on ``[0, horizon_s]`` every ``step_s`` [s]."""
     if not (horizon_s > 0 and step_s > 0 and step_s <= horizon_s):
-        raise SlipInputError(key="horizon_s/step_s", expected="0 < step_s <= horizon_s", found=f"{horizon_s:g}/{step_s:g}")
+        raise SlipInputError(key="horizon_s/step_s", expected="0 < step_s <= horizon_s", found=Described(f"{horizon_s:g}/{step_s:g}"))
     n = int(round(horizon_s / step_s))
     t = np.linspace(0.0, n * step_s, n + 1)
     return make_policy(t, actuator_length(t), touchdown_angle(t))

@@ -1,6 +1,7 @@
 """Several ground-height cases as one :class:`Plan`, and reading the model back out of a plan."""
 
 from __future__ import annotations
+from legbridge.robots.errors import Described
 
 import hashlib
 import json
@@ -51,7 +52,7 @@ def simulate_heights(
     """
     heights = [float(h) for h in heights]
     if not heights:
-        raise SlipInputError(key="heights", expected="at least one ground height", found="none")
+        raise SlipInputError(key="heights", expected="at least one ground height", found=Described("none"))
     names = [case_name(h) for h in heights] if names is None else list(names)
     if len(names) != len(heights) or len(set(names)) != len(names):
         raise SlipInputError(key="names", expected=f"{len(heights)} distinct case names", found=names)
@@ -76,7 +77,7 @@ def plan_from_results(
     """
     results = tuple(results)
     if not results:
-        raise SlipInputError(key="results", expected="at least one simulated case", found="none")
+        raise SlipInputError(key="results", expected="at least one simulated case", found=Described("none"))
     t0 = results[0].trajectory.time_s
     meta = {
         "source": "legbridge.mapping.slip: actuated spring-mass simulation",
@@ -135,7 +136,7 @@ def params_from_plan(plan: Plan) -> SpringMassParams:
     """The spring-mass parameters stored in ``plan.metadata['model']``."""
     model = plan.metadata.get("model") if isinstance(plan.metadata, dict) else None
     if model is None:
-        raise SlipInputError(path=plan.path, key="metadata.model", expected="the spring-mass parameters", found="nothing")
+        raise SlipInputError(path=plan.path, key="metadata.model", expected="the spring-mass parameters", found=Described("nothing"))
     try:
         return SpringMassParams.from_dict(dict(model), where="metadata.model")
     except SlipInputError as e:
@@ -145,7 +146,7 @@ def params_from_plan(plan: Plan) -> SpringMassParams:
 def policy_from_plan(plan: Plan) -> Policy:
     """The plan's policy, validated (strictly increasing time from 0, equal lengths, finite)."""
     if plan.policy is None:
-        raise SlipInputError(path=plan.path, key="policy", expected="a policy (time_s, actuator_length_m, touchdown_angle_rad)", found="nothing")
+        raise SlipInputError(path=plan.path, key="policy", expected="a policy (time_s, actuator_length_m, touchdown_angle_rad)", found=Described("nothing"))
     try:
         return make_policy(plan.policy.time_s, plan.policy.actuator_length_m, plan.policy.touchdown_angle_rad)
     except SlipInputError as e:
