@@ -201,3 +201,37 @@ def envelope_polygon(act: Actuator, n: int = 65) -> tuple[np.ndarray, np.ndarray
     speeds = np.concatenate([qd, qd[::-1], qd[:1]])
     torques = np.concatenate([hi, lo[::-1], hi[:1]])
     return speeds, torques
+
+
+def back_driven_joint_torque_nm(act: Actuator) -> float:
+    """Static joint torque at the drive's peak current when the joint back-drives the motor [N m]:
+    N Kt I_peak / eta (the gearbox losses then help the motor hold the load)."""
+    return act.gear_ratio * act.torque_constant_nm_per_a * act.peak_current_a / act.gearbox_efficiency
+
+
+def explain_torque_bound(joint: Joint, joint_torque_nm: float, motor_side_speed_rad_s: float,
+                         motor_side_accel_rad_s2: float = 0.0) -> str:
+    """In words, what set the peak-torque bound at one sample (the bound joint_torque_limits_nm gives
+    with voltage=False): the drive's peak current through Kt and the gear ratio, the gearbox
+    efficiency by power direction, the torque the rotor's acceleration takes, and the effort limit.
+    Speeds and accelerations on the motor side of the gearbox, in joint units [rad/s], [rad/s^2]."""
+    act = joint.actuator
+    tau, w = float(joint_torque_nm), float(motor_side_speed_rad_s) * act.gear_ratio
+    sign = 1.0 if tau >= 0 else -1.0
+    lo, hi = joint_torque_bounds_nm(act, motor_side_speed_rad_s, motor_side_accel_rad_s2, voltage=False)
+    bound = float(hi if sign > 0 else lo)
+    back = sign * w < 0.0 and abs(w) > 0.0
+    static = back_driven_joint_torque_nm(act) if back else peak_joint_torque_nm(act)
+    kt, n, eta, ipk = act.torque_constant_nm_per_a, act.gear_ratio, act.gearbox_efficiency, act.peak_current_a
+    how = (f"{static:.4g} N m = {n:g} x {kt:.4g} N m/A x {ipk:.4g} A / efficiency {eta:g} (the joint back-drives the motor)"
+           if back else
+           f"{static:.4g} N m = {n:g} x {kt:.4g} N m/A x {ipk:.4g} A x efficiency {eta:g} (the motor drives the joint)")
+    rotor = static - abs(bound)
+    text = f"drive peak current: {how}"
+    if abs(rotor) >= 5e-4 * static:
+        text += (f", {'less' if rotor > 0 else 'plus'} {abs(rotor):.3g} N m for the rotor's acceleration "
+                 f"({abs(float(motor_side_accel_rad_s2)) * n:.4g} rad/s^2 at the motor)")
+    e = joint.effort_limit_nm
+    if e is not None and e < abs(bound):
+        text += f"; the joint effort limit {e:.4g} N m is tighter and applies"
+    return text

@@ -11,7 +11,7 @@ from __future__ import annotations
 import sys
 
 
-from legbridge.limits.cli.options import add_check_options, add_output, add_robot, settings_from_args
+from legbridge.limits.cli.options import PLAN_HELP, add_check_options, add_output, add_robot, settings_from_args
 from legbridge.mapping.pipeline import prepare
 
 
@@ -21,7 +21,7 @@ def register(subparsers) -> None:
                               description="Translate every case of PLAN for ROBOT and check each sample against the "
                                           "modelled limits (range, speed, torque, voltage, current, temperature, power, "
                                           "friction), with the force-feasibility and nearest-motion QPs.")
-    p.add_argument("plan", metavar="PLAN", help="plan file (CSV, JSON, NPZ or MAT-file)")
+    p.add_argument("plan", metavar="PLAN", help=PLAN_HELP)
     add_robot(p)
     add_check_options(p)
     add_output(p, "write the review as JSON to OUT")

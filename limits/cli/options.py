@@ -10,6 +10,14 @@ import argparse
 OFFSET_OPTIONS = ("--ground-offsets", "--heights", "--sweep")
 
 
+PLAN_HELP = "plan file (CSV, JSON, NPZ or MAT-file)"
+
+
+def add_rate(p) -> None:
+    """--rate HZ: the controller, export and check rate."""
+    p.add_argument("--rate", type=float, default=1000.0, metavar="HZ", help="controller / export rate [Hz] (default 1000)")
+
+
 def add_robot(p, *, required: bool = True) -> None:
     """--robot ROBOT: a robot description file or the name of a bundled robot."""
     p.add_argument("--robot", required=required, metavar="ROBOT",
@@ -18,7 +26,7 @@ def add_robot(p, *, required: bool = True) -> None:
 
 def add_check_options(p) -> None:
     """--rate, --duration, --margin, --friction, --supply-power, --regen-energy on parser ``p``."""
-    p.add_argument("--rate", type=float, default=1000.0, metavar="HZ", help="controller / export rate [Hz] (default 1000)")
+    add_rate(p)
     p.add_argument("--duration", type=float, default=None, metavar="S",
                    help="a finite test of S seconds, the plan repeated, for the winding temperature (default: the "
                         "plan repeated for as long as the test runs: periodic steady state and time to limit)")

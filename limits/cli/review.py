@@ -12,6 +12,7 @@ import argparse
 import sys
 
 from legbridge.limits.cli.options import (
+    PLAN_HELP,
     add_check_options,
     add_ground_offsets,
     add_jobs,
@@ -30,7 +31,7 @@ HELP = "translate, check and write the pre-test review (JSON, joint targets, HTM
 def register(sub) -> None:
     """Add the ``review`` sub-command to ``legbridge`` (sets ``func``)."""
     p = sub.add_parser("review", help=HELP, description=HELP[0].upper() + HELP[1:] + ".")
-    p.add_argument("plan", nargs="?", metavar="PLAN", help="plan file (.csv, .json, .npz, .mat)")
+    p.add_argument("plan", nargs="?", metavar="PLAN", help=PLAN_HELP)
     add_robot(p, required=False)
     p.add_argument("--demo", action="store_true",
                    help="review the bundled demo robot with the shipped demo plan (invented data)")

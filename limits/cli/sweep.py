@@ -38,7 +38,7 @@ def register(subparsers) -> None:
         description="Re-simulate the open-loop policy of PLAN (actuated spring-mass model) on a range of ground-height "
                     "offsets, translate and check every case that completes, and report the window of offsets that "
                     "complete within the modelled limits.")
-    p.add_argument("plan", nargs="+", metavar="PLAN", help="plan file(s) carrying a policy and model (JSON, NPZ, MAT)")
+    p.add_argument("plan", nargs="+", metavar="PLAN", help="plan file(s) carrying a policy and model (JSON, NPZ or MAT-file)")
     p.add_argument("--robot", action="append", required=True, metavar="ROBOT",
                    help="robot description file or bundled robot name; repeat for several (cross product with PLAN)")
     add_ground_offsets(p, "ground-height offsets [m]: N values from LO to HI (default 11 from -0.1 l0 to +0.1 l0)")

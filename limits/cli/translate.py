@@ -16,16 +16,16 @@ import sys
 from pathlib import Path
 
 from legbridge.limits.cautions import caution_lines
-from legbridge.limits.cli.options import add_gait, add_output, add_robot
+from legbridge.limits.cli.options import PLAN_HELP, add_gait, add_output, add_rate, add_robot
 from legbridge.limits.cli.progress import StderrProgress, add_quiet
 
 
 def register(subparsers) -> None:
     """Add the ``translate`` sub-command to ``legbridge`` (sets ``func``)."""
     p = subparsers.add_parser("translate", help="translate a plan's cases into joint targets at the controller rate")
-    p.add_argument("plan", metavar="PLAN", help="plan file (.csv, .json, .npz, .mat)")
+    p.add_argument("plan", metavar="PLAN", help=PLAN_HELP)
     add_robot(p)
-    p.add_argument("--rate", type=float, default=1000.0, metavar="HZ", help="controller rate in Hz (default 1000)")
+    add_rate(p)
     p.add_argument("--case", action="append", metavar="NAME", help="translate only this case (repeatable)")
     add_gait(p)
     add_quiet(p)
@@ -62,6 +62,23 @@ def summary_lines(plan, trajs, out: Path, rate_hz: float, warnings=()) -> list[s
     return lines
 
 
+def limit_hint(prepared, rate_hz: float, args) -> list[str]:
+    """A pointer to ``legbridge check`` when a case would exceed a modelled limit: the instantaneous
+    and thermal checks run without the QPs (translate stays quick); the exit status is not changed."""
+    from legbridge.limits.checks.case import check_case
+    from legbridge.limits.checks.results import CheckSettings
+
+    settings = CheckSettings(rate_hz=rate_hz, gait=args.gait, run_qps=False)
+    over = [c for c in (check_case(t, prepared.robot, settings) for t in prepared.trajectories)
+            if not c.summary.passes]
+    if not over:
+        return []
+    worst = "; ".join(f"{c.case}: {c.summary.verdict.words}, worst {c.summary.worst.text}" if c.summary.worst
+                      else f"{c.case}: {c.summary.verdict.words}" for c in over)
+    return [f"Hint: {len(over)} case(s) would not stay within the modelled limits ({worst}); "
+            f"run legbridge check (or review) on this plan before using these targets"]
+
+
 def run(args) -> int:
     """Run ``legbridge translate``; returns the exit status."""
     from legbridge.mapping.pipeline import check_rate, prepare
@@ -81,6 +98,7 @@ def run(args) -> int:
     finally:
         progress.close()
     print("\n".join(summary_lines(prepared.plan, prepared.trajectories, out, rate, prepared.warnings)))
+    print("\n".join(limit_hint(prepared, rate, args)))
     print()
     print("\n".join(caution_lines()))
     return 0

@@ -117,8 +117,10 @@ def test_joint_figure_shades_the_violation_in_the_torque_row(robot, reviewed):
     reviews = reviewed[0].cases
     fig = plots.case_joints_figure(reviews[2], robot)
     exceeds = [s for s in fig.shaded if s.severity == "exceeds"]
-    assert [(s.joint, s.row) for s in exceeds] == [("hip", "torque")]
-    assert exceeds[0].t_start_s == pytest.approx(0.135) and exceeds[0].t_end_s == pytest.approx(0.265)
+    # the torque over its bound is, through Kt, the drive current over its peak: both rows, one span
+    assert sorted((s.joint, s.row) for s in exceeds) == [("hip", "current"), ("hip", "torque")]
+    for s in exceeds:
+        assert s.t_start_s == pytest.approx(0.135) and s.t_end_s == pytest.approx(0.265)
     assert fig.png[:8] == b"\x89PNG\r\n\x1a\n"  # PNG signature (PNG specification, section 5.2)
     assert plots.case_joints_figure(reviews[0], robot).shaded == ()  # the within case shades nothing
     # torque segments are not ground-force limits: the force figure shades nothing for them
@@ -128,8 +130,10 @@ def test_joint_figure_shades_the_violation_in_the_torque_row(robot, reviewed):
 def test_row_for_limit_names_of_the_checks():
     assert plots.row_for_limit("joint_range") == "angle"
     assert plots.row_for_limit("joint_speed") == "speed"
-    for lim in ("peak_torque", "voltage", "peak_current", "winding_temperature"):
+    for lim in ("peak_torque", "winding_temperature"):
         assert plots.row_for_limit(lim) == "torque"
+    assert plots.row_for_limit("peak_current") == plots.row_for_limit("continuous_current") == "current"
+    assert plots.row_for_limit("voltage") == "voltage"
     for lim in ("supply_power", "regen_energy", "friction_cone", "unilateral_force"):  # in no joint row
         assert plots.row_for_limit(lim) is None
     assert plots.is_ground_limit("friction_cone") and plots.is_ground_limit("unilateral_force")
@@ -163,7 +167,8 @@ def test_identity_and_self_contained(reviewed, robot):
     for name in ("verdicts", "segments"):
         head = doc.tables[name][0]
         assert all("[" in h for h in head if h not in ("Case", "Verdict", "Worst limit", "Joint", "Limit", "Severity",
-                                                       "Unit", "Could not be evaluated", "Peak", "Allowed", "Limits exceeded"))
+                                                       "Unit", "Could not be evaluated", "Peak", "Allowed", "Limits exceeded",
+                                                           "What set the allowed value"))
 
 
 def test_sign_off_has_checklist_and_blanks(reviewed):

@@ -226,3 +226,23 @@ def test_three_phase_requires_back_emf_convention(write_robot):
     act = THREE_PHASE.format(kt=kt, ke=ke).replace('back_emf_convention = "line_rms"\n', "")
     with pytest.raises(RobotFileError, match="back_emf_convention'.*missing key"):
         load_robot(write_robot(robot_text(knee_actuator=act)))
+
+
+def test_the_peak_torque_bound_is_explained_by_power_direction_and_rotor_share():
+    # lab-biped knee: N = 12, Kt = 0.20 N m/A, I_peak = 80 A, eta = 0.9, J_r = 1.2e-4 kg m^2 (the file).
+    # Hand-worked from the standard DC-motor and gearbox relations (Hughes and Drury, Electric Motors
+    # and Drives, ch. 3): motoring tau = eta N (Kt I - J_r N qdd_m) ; back-driven tau = N (Kt I - J_r N qdd_m) / eta.
+    knee = load_robot(library_path("lab-biped.toml")).joint("left_knee")
+    assert al.peak_joint_torque_nm(knee.actuator) == pytest.approx(0.9 * 12 * 0.20 * 80)            # 172.8 N m
+    assert al.back_driven_joint_torque_nm(knee.actuator) == pytest.approx(12 * 0.20 * 80 / 0.9)     # 213.33 N m
+    # motoring at +1 rad/s, motor side accelerating at 100 rad/s^2 (joint units): rotor share
+    # eta N * J_r N * 100 = 0.9 * 12 * 1.2e-4 * 12 * 100 = 1.5552 N m
+    text = al.explain_torque_bound(knee, 150.0, 1.0, 100.0)
+    assert "172.8 N m = 12 x 0.2 N m/A x 80 A x efficiency 0.9 (the motor drives the joint)" in text
+    assert "less 1.56 N m for the rotor's acceleration" in text
+    lo, hi = al.joint_torque_bounds_nm(knee.actuator, 1.0, 100.0, voltage=False)
+    assert float(hi) == pytest.approx(172.8 - 1.5552)
+    # back-driven: positive torque while the joint turns backwards; no acceleration, no rotor share
+    text = al.explain_torque_bound(knee, 150.0, -1.0, 0.0)
+    assert "213.3 N m = 12 x 0.2 N m/A x 80 A / efficiency 0.9 (the joint back-drives the motor)" in text
+    assert "rotor" not in text

@@ -22,19 +22,26 @@ SEVERITY_EXCEEDS, SEVERITY_NEAR = Verdict.EXCEEDS, Verdict.NEAR
 # Our colours (print-friendly, distinct in greyscale by lightness as well as by hue).
 INK = "#1d2a36"
 PLAN = "#24527a"        # planned values
+PLAN_WIDE = "#9dbcd8"   # planned values drawn as a wide light band under another series
 ALT = "#8a5a00"         # second series / achievable values
 LIMIT = "#7a1f1f"       # limit lines and envelopes
 FILL_EXCEEDS = "#e8b4a8"
 FILL_NEAR = "#f1dca0"
 HATCH = {SEVERITY_EXCEEDS: "////", SEVERITY_NEAR: ".."}
 FILL = {SEVERITY_EXCEEDS: FILL_EXCEEDS, SEVERITY_NEAR: FILL_NEAR}
+CASE_COLOURS = (PLAN, ALT, INK, "#4f7d4f", "#7a3f8a", "#5c6670")  # one per case, with its own line style
 LINESTYLES = ("-", "--", "-.", ":", (0, (5, 1, 1, 1, 1, 1)), (0, (1, 2)))
 MARKERS = ("o", "s", "^", "D", "v", "x", "+", "*")
 DPI = 140  # sharp enough for print at the figure sizes used; drawing, not rasterising, sets the time
 
 # Rows of the per-case joint figure: (key, label with unit)
-ROWS = (("angle", "angle [rad]"), ("speed", "speed [rad/s]"), ("torque", "torque [N m]"))
-UNITS = {"angle": "rad", "speed": "rad/s", "torque": "N m"}
+ROWS = (("angle", "angle [rad]"), ("speed", "speed [rad/s]"), ("torque", "torque [N m]"),
+        ("current", "current [A]"), ("voltage", "voltage [V]"))
+UNITS = {"angle": "rad", "speed": "rad/s", "torque": "N m", "current": "A", "voltage": "V"}
+# limits drawn in a row of their own quantity rather than their check's panel (Limit.panel)
+ROW_OF_LIMIT = {"peak_current": "current", "continuous_current": "current", "voltage": "voltage"}
+MIN_SPAN_FRACTION = 0.012  # a flagged span is drawn at least this share of the time axis wide
+LABELS_PER_PANEL = 3   # flagged spans labelled with their limit in each panel, widest first
 
 
 def scale_limits(lo: float, hi: float, values) -> tuple[float, float, bool]:
@@ -80,6 +87,8 @@ class Figure:
 def row_for_limit(limit: str) -> str | None:
     """The joint-figure row a limit's flagged spans are drawn in ('angle', 'speed', 'torque'), as its
     check declares (Limit.panel); None when it is drawn in no joint row (ground force, whole robot)."""
+    if limit in ROW_OF_LIMIT:
+        return ROW_OF_LIMIT[limit]
     panel = get_limit(limit).panel
     return panel if panel in ("angle", "speed", "torque") else None
 
@@ -154,6 +163,14 @@ def _shade(panels: dict, items, dt: float, min_width_s: float = 0.0) -> tuple[Sh
                        facecolors=FILL.get(sev, FILL_EXCEEDS), edgecolors=LIMIT, hatch=HATCH.get(sev, "xx"),
                        linewidth=0.0, alpha=0.55, zorder=0.2 if sev == SEVERITY_EXCEEDS else 0.1)  # exceeds over near
         shades.extend(Shade(joint, row, a, b, sev, lim) for a, b, lim in merged)
+        if sev == SEVERITY_EXCEEDS:  # name what is exceeded above the widest spans
+            from legbridge.limits.verdict import limit_label
+
+            for a, b, lims in sorted(merged, key=lambda m: m[0] - m[1])[:LABELS_PER_PANEL]:
+                text = ", ".join(limit_label(x) for x in lims.split(", "))
+                ax.annotate(text, xy=((a + b) / 2, 1.0), xycoords=ax.get_xaxis_transform(), xytext=(0, 1.5),
+                            textcoords="offset points", ha="center", va="bottom", fontsize=6.3, color=LIMIT,
+                            annotation_clip=False)
     return tuple(shades)
 
 
@@ -258,11 +275,13 @@ def zoomed(review, window):
 
 
 def case_joints_figure(review, robot) -> Figure:
-    """Joint angle, speed and torque of one case against time, with limit bands and flagged spans.
+    """Joint angle, speed, torque, drive current and winding voltage of one case against time, with
+    limit bands and flagged spans (labelled with the limit where it is exceeded).
 
     Rows: angle [rad] with the hard stops; speed [rad/s] with +-max_joint_speed; torque [N m] with
-    +-max_joint_torque (static peak) and the voltage-envelope torque bounds at the planned speed
-    (dashed). Columns: joints. Segments of the case are shaded in their joint's column (all columns
+    +-max_joint_torque (static peak, motor driving) and the voltage-envelope torque bounds at the
+    planned speed (dashed); current [A] (DC-equivalent) with +-the drive's peak current; voltage [V]
+    (the voltage check's value, winding at its temperature limit) with +-the drive's voltage. Columns: joints. Segments of the case are shaded in their joint's column (all columns
     for whole-leg limits) and in the row of their limit (all rows when the limit has no row).
     """
     from legbridge.robots.actuator_limits import joint_torque_limits_nm, max_joint_speed, max_joint_torque
@@ -271,8 +290,8 @@ def case_joints_figure(review, robot) -> Figure:
     t = np.asarray(traj.time_s, dtype=float)
     names = tuple(traj.joint_names)
     nj = len(names)
-    fig = _new_figure(2.9 * nj + 0.6, 6.0, bottom=1.05, top=0.55)
-    axes = fig.subplots(3, nj, sharex=True, squeeze=False)
+    fig = _new_figure(2.9 * nj + 0.6, 8.8, bottom=1.05, top=0.75, hspace=0.3)
+    axes = fig.subplots(len(ROWS), nj, sharex=True, squeeze=False)
     dt = _dt(t)
     severities: set[str] = set()
     notes: list[str] = []
@@ -280,12 +299,17 @@ def case_joints_figure(review, robot) -> Figure:
     for j, name in enumerate(names):
         joint = robot.joint(name)
         stance_mask, swing_mask = phase_masks(name)
-        series = {"angle": traj.q[:, j], "speed": traj.qd[:, j], "torque": traj.tau[:, j]}
+        act = joint.actuator
+        volt = next((tr.value for tr in review.traces if tr.limit == "voltage" and tr.joint == name), None)
+        series = {"angle": traj.q[:, j], "speed": traj.qd[:, j], "torque": traj.tau[:, j],
+                  "current": traj.current_a[:, j],
+                  "voltage": np.full(t.shape, np.nan) if volt is None else np.asarray(volt, dtype=float)}
         vmax = max_joint_speed(joint).value
         tmax = max_joint_torque(joint).value
         m_speed, m_accel = traj.motor_side_rates(j, joint.actuator.gear_ratio)
         lo_v, hi_v, _ = joint_torque_limits_nm(joint, m_speed, m_accel, voltage=True)
-        bands = {"angle": (joint.lower_rad, joint.upper_rad), "speed": (-vmax, vmax), "torque": (-tmax, tmax)}
+        bands = {"angle": (joint.lower_rad, joint.upper_rad), "speed": (-vmax, vmax), "torque": (-tmax, tmax),
+                 "current": (-act.peak_current_a, act.peak_current_a), "voltage": (-act.max_voltage_v, act.max_voltage_v)}
         for r, (key, label) in enumerate(ROWS):
             ax = axes[r, j]
             _style_axes(ax)
@@ -319,7 +343,7 @@ def case_joints_figure(review, robot) -> Figure:
                 ax.set_ylabel(label)
             if r == 0:
                 ax.set_title(f"{name}")
-            if r == 2:
+            if r == len(ROWS) - 1:
                 ax.set_xlabel("time [s]")
     items = []
     for seg in review.segments:
@@ -330,12 +354,12 @@ def case_joints_figure(review, robot) -> Figure:
         items.extend(((names[c], row), seg.t_start_s, seg.t_end_s, seg.severity, seg.limit) for c in cols)
         severities.add(seg.severity)
     panels = {(names[c], k): axes[r, c] for c in range(nj) for r, (k, _) in enumerate(ROWS)}
-    shaded = _shade(panels, items, dt, 0.006 * float(t[-1] - t[0]) if t.size else 0.0)
+    shaded = _shade(panels, items, dt, MIN_SPAN_FRACTION * float(t[-1] - t[0]) if t.size else 0.0)
     from matplotlib.lines import Line2D
 
     extra = [
         Line2D([], [], color=PLAN, linewidth=1.3, label="planned"),
-        Line2D([], [], color=LIMIT, linewidth=1.8, label="limit: stops, max speed, peak torque"),
+        Line2D([], [], color=LIMIT, linewidth=1.8, label="limit: stops, speed, peak torque (motor drives), current, voltage"),
         Line2D([], [], color=LIMIT, linewidth=0.9, linestyle="--", label="voltage-limited torque at planned speed"),
     ]
     from matplotlib.patches import Patch
@@ -345,7 +369,7 @@ def case_joints_figure(review, robot) -> Figure:
         extra.append(Patch(facecolor=SWING_FILL, edgecolor="none", label="generated swing"))
     _legend_for_shading(fig, severities, extra)
     fig.suptitle(f"Case {review.case}: joint targets against the modelled limits", fontsize=10, color=INK)
-    alt = (f"Joint angle, speed and torque of case {review.case} against time for joints {', '.join(names)}, "
+    alt = (f"Joint angle, speed, torque, current and voltage of case {review.case} against time for joints {', '.join(names)}, "
            f"with limit lines; {len(review.segments)} flagged segment(s) shaded.")
     return Figure(f"case-{review.case}-joints", _png(fig), alt, tuple(shaded), tuple(notes))
 
@@ -375,14 +399,15 @@ def case_force_figure(review, robot, friction: float | None = None) -> Figure:
     for ax in (ax_z, ax_x):
         _style_axes(ax)
         ax.set_xlabel("time [s]")
-    ax_z.plot(*envelope(t, f[:, 1]), color=PLAN, linewidth=1.4, label="planned")
-    ax_x.plot(*envelope(t, f[:, 0]), color=PLAN, linewidth=1.4, label="planned")
+    # planned: a wide light band; achievable: thin dark dashes on top; cone: dotted (apart in greyscale)
+    ax_z.plot(*envelope(t, f[:, 1]), color=PLAN_WIDE, linewidth=3.6, label="planned", solid_capstyle="butt")
+    ax_x.plot(*envelope(t, f[:, 0]), color=PLAN_WIDE, linewidth=3.6, label="planned", solid_capstyle="butt")
     fz_pos = np.maximum(f[:, 1], 0.0)
-    ax_x.plot(*envelope(t, mu * fz_pos), color=LIMIT, linewidth=1.0, linestyle="-", label=f"friction cone, mu = {mu:g}")
-    ax_x.plot(*envelope(t, -mu * fz_pos), color=LIMIT, linewidth=1.0, linestyle="-")
+    ax_x.plot(*envelope(t, mu * fz_pos), color=LIMIT, linewidth=1.1, linestyle=(0, (1, 1.2)), label=f"friction cone, mu = {mu:g}")
+    ax_x.plot(*envelope(t, -mu * fz_pos), color=LIMIT, linewidth=1.1, linestyle=(0, (1, 1.2)))
     if ach is not None and ach.shape[0] == t.shape[0]:
-        ax_z.plot(*envelope(t, ach[:, 1]), color=ALT, linewidth=1.2, linestyle="--", label="achievable (QP)")
-        ax_x.plot(*envelope(t, ach[:, 0]), color=ALT, linewidth=1.2, linestyle="--", label="achievable (QP)")
+        ax_z.plot(*envelope(t, ach[:, 1]), color=INK, linewidth=1.0, linestyle=(0, (4, 2)), label="achievable (QP)")
+        ax_x.plot(*envelope(t, ach[:, 0]), color=INK, linewidth=1.0, linestyle=(0, (4, 2)), label="achievable (QP)")
     ax_z.set_ylabel("vertical force F_z [N]")
     ax_x.set_ylabel("horizontal force F_x [N]")
     ax_z.set_title("vertical", fontsize=9)
@@ -394,7 +419,7 @@ def case_force_figure(review, robot, friction: float | None = None) -> Figure:
         if is_ground_limit(seg.limit):
             items.extend((("", row), seg.t_start_s, seg.t_end_s, seg.severity, seg.limit) for row in ("force_z", "force_x"))
             severities.add(seg.severity)
-    shaded = _shade({("", "force_z"): ax_z, ("", "force_x"): ax_x}, items, dt, 0.006 * float(t[-1] - t[0]) if t.size else 0.0)
+    shaded = _shade({("", "force_z"): ax_z, ("", "force_x"): ax_x}, items, dt, MIN_SPAN_FRACTION * float(t[-1] - t[0]) if t.size else 0.0)
     handles, _ = ax_x.get_legend_handles_labels()
     _legend_for_shading(fig, severities, handles)
     fig.suptitle(f"Case {review.case}: ground force on the foot", fontsize=10, color=INK)
@@ -405,55 +430,83 @@ def case_force_figure(review, robot, friction: float | None = None) -> Figure:
 
 
 def torque_speed_figure(reviews, robot, joint_name: str) -> Figure:
-    """Torque-speed plane of one joint: voltage and current envelope, peak and continuous torque, every case.
+    """Torque-speed plane of one joint, one small panel per case (the other cases in light grey behind):
+    voltage and current envelope, the peak torque by power direction, the continuous torque.
 
     x: joint speed [rad/s]; y: joint torque [N m]. The envelope is robots.actuator_limits.envelope_polygon
-    (steady speed: the rotor-inertia term is not in it); each case's samples are drawn with their own marker.
+    (steady speed: the rotor-inertia term is not in it). Where torque and speed share a sign the motor
+    drives the joint and the drive's peak current gives eta N Kt I_peak; in the other two quadrants the
+    joint back-drives the motor and the same current holds N Kt I_peak / eta.
     """
-    from legbridge.robots.actuator_limits import continuous_joint_torque_nm, envelope_polygon, max_joint_torque
+    from legbridge.robots.actuator_limits import (back_driven_joint_torque_nm, continuous_joint_torque_nm,
+                                                  envelope_polygon, max_joint_torque)
 
     joint = robot.joint(joint_name)
     act = joint.actuator
-    fig = _new_figure(6.0, 4.0, right=2.0, top=0.4, bottom=0.55)
-    ax = fig.subplots()
-    _style_axes(ax)
+    shown = [rv for rv in reviews if joint_name in rv.trajectory.joint_names]
+    ncol = min(3, max(1, len(shown)))
+    nrow = max(1, -(-len(shown) // ncol))
+    fig = _new_figure(2.6 * ncol + 0.9, 2.3 * nrow + 1.2, left=0.8, right=0.15, top=0.5, bottom=1.0,
+                      wspace=0.12, hspace=0.35)
+    axes = fig.subplots(nrow, ncol, squeeze=False, sharex=True, sharey=True)
     sp, tq = envelope_polygon(act)
-    ax.fill(sp, tq, facecolor="#eef1f4", edgecolor="none", zorder=0)
-    ax.plot(sp, tq, color=LIMIT, linewidth=1.4, label="voltage and current envelope")
     tmax = max_joint_torque(joint).value
+    tback = min(back_driven_joint_torque_nm(act), joint.effort_limit_nm or np.inf)
     tcont = continuous_joint_torque_nm(act)
-    for s in (1, -1):
-        ax.axhline(s * tmax, color=LIMIT, linewidth=0.9, linestyle="--", label="peak torque" if s > 0 else None)
-        ax.axhline(s * tcont, color=INK, linewidth=0.9, linestyle=":", label="continuous torque" if s > 0 else None)
-    for k, rv in enumerate(reviews):
-        traj = rv.trajectory
-        if joint_name not in traj.joint_names:
-            continue
-        j = list(traj.joint_names).index(joint_name)
-        step = max(1, traj.n_samples // 600)  # a few hundred points per case are enough to see the shape
-        ax.plot(traj.qd[::step, j], traj.tau[::step, j], linestyle="none", marker=MARKERS[k % len(MARKERS)],
-                markersize=3.2, markerfacecolor="none", markeredgewidth=0.8,
-                color=(PLAN, ALT, INK, "#4f7d4f")[k % 4], label=f"case {rv.case}")
-    # keep the envelope readable when a few samples spike far outside it; say how many are off scale
     smax, tq_max = float(np.max(np.abs(sp))), max(float(np.max(np.abs(tq))), tmax)
-    xlim, ylim = 1.6 * smax, 2.0 * tq_max
-    ax.set_xlim(-xlim, xlim)
-    ax.set_ylim(-ylim, ylim)
+    xlim, ylim = 1.3 * smax, 1.35 * tq_max
+    samples = []
+    for rv in shown:
+        j = list(rv.trajectory.joint_names).index(joint_name)
+        step = max(1, rv.trajectory.n_samples // 600)  # a few hundred points per case show the shape
+        samples.append((rv.trajectory.qd[::step, j], rv.trajectory.tau[::step, j]))
+    for k, ax in enumerate(axes.flat):
+        if k >= len(shown):
+            ax.set_visible(False)
+            continue
+        _style_axes(ax)
+        ax.fill(sp, tq, facecolor="#eef1f4", edgecolor="none", zorder=0)
+        ax.plot(sp, tq, color=LIMIT, linewidth=1.3)
+        for s in (1, -1):  # peak torque by power direction: motoring quadrants I and III, back-driven II and IV
+            ax.plot([0, s * xlim], [s * tmax, s * tmax], color=LIMIT, linewidth=0.9, linestyle="--")
+            ax.plot([0, -s * xlim], [s * tback, s * tback], color=LIMIT, linewidth=0.9, linestyle=(0, (1, 1.5)))
+            ax.axhline(s * tcont, color=INK, linewidth=0.8, linestyle=":")
+        for other, (x, y) in enumerate(samples):
+            if other != k:
+                ax.plot(x, y, linestyle="none", marker=".", markersize=1.6, color="#b9bfc5", zorder=1)
+        x, y = samples[k]
+        ax.plot(x, y, linestyle="none", marker=MARKERS[k % len(MARKERS)], markersize=2.8, markerfacecolor="none",
+                markeredgewidth=0.7, color=PLAN, zorder=2)
+        ax.set_title(f"case {shown[k].case}", fontsize=8.5)
+        ax.set_xlim(-xlim, xlim)
+        ax.set_ylim(-ylim, ylim)
+        if k % ncol == 0:
+            ax.set_ylabel("joint torque [N m]")
+        if k // ncol == nrow - 1 or k + ncol >= len(shown):
+            ax.set_xlabel("joint speed [rad/s]")
     notes = []
-    for rv in reviews:
-        if joint_name in rv.trajectory.joint_names:
-            j = list(rv.trajectory.joint_names).index(joint_name)
-            qd, tau = rv.trajectory.qd[:, j], rv.trajectory.tau[:, j]
-            n_off = int(np.count_nonzero((np.abs(qd) > xlim) | (np.abs(tau) > ylim)))
-            if n_off:
-                notes.append(f"case {rv.case}: {n_off} of {rv.trajectory.n_samples} samples of {joint_name} lie beyond the "
-                             f"plotted range (|speed| > {xlim:.3g} rad/s or |torque| > {ylim:.4g} N m), peak |torque| "
-                             f"{float(np.nanmax(np.abs(tau))):.4g} N m.")
-    ax.set_xlabel("joint speed [rad/s]")
-    ax.set_ylabel("joint torque [N m]")
-    ax.set_title(f"{joint_name}: torque-speed plane", color=INK)
-    fig.legend(loc="center right", bbox_to_anchor=(1.0, 0.5), fontsize=7.5, frameon=False)
-    alt = f"Torque against speed of joint {joint_name} for every case, inside the motor's voltage and current envelope."
+    for rv in shown:
+        j = list(rv.trajectory.joint_names).index(joint_name)
+        qd, tau = rv.trajectory.qd[:, j], rv.trajectory.tau[:, j]
+        n_off = int(np.count_nonzero((np.abs(qd) > xlim) | (np.abs(tau) > ylim)))
+        if n_off:
+            notes.append(f"case {rv.case}: {n_off} of {rv.trajectory.n_samples} samples of {joint_name} lie beyond the "
+                         f"plotted range (|speed| > {xlim:.3g} rad/s or |torque| > {ylim:.4g} N m), peak |torque| "
+                         f"{float(np.nanmax(np.abs(tau))):.4g} N m.")
+    from matplotlib.lines import Line2D
+
+    handles = [
+        Line2D([], [], color=LIMIT, linewidth=1.3, label="voltage and current envelope"),
+        Line2D([], [], color=LIMIT, linewidth=0.9, linestyle="--", label=f"peak torque, motor drives: {tmax:.4g} N m"),
+        Line2D([], [], color=LIMIT, linewidth=0.9, linestyle=(0, (1, 1.5)), label=f"peak torque, back-driven: {tback:.4g} N m"),
+        Line2D([], [], color=INK, linewidth=0.8, linestyle=":", label=f"continuous torque: {tcont:.4g} N m"),
+        Line2D([], [], color=PLAN, linestyle="none", marker="o", markerfacecolor="none", markersize=4, label="this case"),
+        Line2D([], [], color="#b9bfc5", linestyle="none", marker=".", markersize=5, label="the other cases"),
+    ]
+    fig.legend(handles=handles, loc="lower center", bbox_to_anchor=(0.5, 0.0), ncols=3, fontsize=7.2, frameon=False)
+    fig.suptitle(f"{joint_name}: torque-speed plane, one panel per case", fontsize=10, color=INK)
+    alt = (f"Torque against speed of joint {joint_name}, one panel per case, inside the motor's voltage and current "
+           f"envelope; peak torque {tmax:.4g} N m when the motor drives the joint, {tback:.4g} N m when it is back-driven.")
     return Figure(f"joint-{joint_name}-torque-speed", _png(fig), alt, (), tuple(notes))
 
 
@@ -473,13 +526,25 @@ def thermal_figure(reviews, robot, duration_s: float | None) -> Figure:
         th = robot.joint(name).actuator.thermal
         ax.axhline(th.max_winding_temp_c, color=LIMIT, linewidth=2.6, label="winding limit" if j == 0 else None)
         ax.axhline(th.ambient_temp_c, color="#6b7680", linewidth=0.8, linestyle=":", label="ambient" if j == 0 else None)
+        reached: list[str] = []
         for k, rv in enumerate(reviews):
             th = rv.thermal
             if name not in th.joint_names:
                 continue
             col = th.winding_temp_c[:, th.joint_names.index(name)]
-            ax.plot(th.time_s, col, color=(PLAN, ALT, INK, "#4f7d4f")[k % 4],
+            colour = CASE_COLOURS[k % len(CASE_COLOURS)]
+            ax.plot(th.time_s, col, color=colour,
                     linestyle=LINESTYLES[k % len(LINESTYLES)], linewidth=1.3, label=f"case {rv.case}" if j == 0 else None)
+            ttl = th.time_to_limit_s.get(name)
+            if ttl is not None and np.isfinite(ttl):  # where this case's winding reaches its limit
+                ax.plot([ttl], [th.max_temp_c[th.joint_names.index(name)]], linestyle="none",
+                        marker=MARKERS[k % len(MARKERS)], markersize=6, color=colour, markeredgecolor=INK, zorder=3)
+                reached.append(f"{rv.case}: {ttl:.0f} s")
+                notes.append(f"{name}, case {rv.case}: the winding reaches its limit "
+                             f"{th.max_temp_c[th.joint_names.index(name)]:g} degC at {ttl:.4g} s.")
+        if reached:  # time to the limit, one line per case, in a box the lines cannot hide
+            ax.text(0.03, 0.97, "limit reached at\n" + "\n".join(reached), transform=ax.transAxes, va="top", ha="left",
+                    fontsize=6.3, color=INK, bbox=dict(facecolor="white", edgecolor="#c9ced3", alpha=0.9, pad=2.0))
         ax.set_title(name)
         ax.set_xlabel("time [s]")
         if j == 0:
@@ -487,8 +552,10 @@ def thermal_figure(reviews, robot, duration_s: float | None) -> Figure:
         if duration_s:
             ax.set_xlim(0.0, duration_s)
     fig.legend(loc="lower center", bbox_to_anchor=(0.5, 0.0), ncols=3, fontsize=7.5, frameon=False)
-    fig.suptitle("Winding temperature over the test duration", fontsize=10, color=INK)
-    alt = "Winding temperature of each joint against time over the test duration, with its limit."
+    fig.suptitle("Winding temperature over the whole assumed test" + (f" ({duration_s:g} s)" if duration_s else ""),
+                 fontsize=10, color=INK)
+    alt = ("Winding temperature of each joint against time over the whole assumed test, with its limit"
+           + (" and where a winding reaches it." if notes else "; no winding reaches its limit."))
     return Figure("thermal", _png(fig), alt, (), tuple(notes))
 
 

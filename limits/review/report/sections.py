@@ -12,6 +12,8 @@ import os
 import re
 from html import escape
 
+import numpy as np
+
 from legbridge.limits.cautions import CAUTIONS
 from legbridge.limits.verdict import Verdict, joint_label, limit_label, utilisation_text
 from legbridge.robots.robot import STANDARD_GRAVITY_M_S2
@@ -241,16 +243,25 @@ def cases(review, figs=None) -> str:
 def torque_speed(review, figs=None) -> str:
     """Section 4: per joint, the torque-speed plane with the envelope and every case."""
     reviews, robot = review.cases, review.robot
-    from legbridge.robots.actuator_limits import max_joint_speed, max_joint_torque
+    from legbridge.robots.actuator_limits import back_driven_joint_torque_nm, max_joint_speed, max_joint_torque
 
     parts = ['<section id="torque-speed"><h2>4. Torque-speed plane per joint</h2>']
     for j in robot.limb_joints:  # both legs' joints of a biped
         f = _figure_of(review, ("torque_speed", j.name), figs)
         ms, mt = max_joint_speed(j), max_joint_torque(j)
+        act = j.actuator
+        back = min(back_driven_joint_torque_nm(act), j.effort_limit_nm or math.inf)
         parts.append(f'<h3 id="joint-{slug(j.name)}">Joint {escape(j.name)}</h3>' + figure(
-            f, f"Joint torque [N m] against joint speed [rad/s]. Solid outline: the voltage and drive-current envelope at steady "
-               f"speed (rotor inertia not included); dashed: peak torque {mt.value:.4g} N m ({escape(mt.source)}); dotted: "
-               f"continuous torque. Maximum joint speed {ms.value:.4g} rad/s ({escape(ms.source)}). One marker per case."))
+            f, f"Joint torque [N m] against joint speed [rad/s], one panel per case (the other cases in grey). Solid outline: "
+               f"the voltage and drive-current envelope at steady speed (rotor inertia not included); dashed: peak torque "
+               f"{mt.value:.4g} N m ({escape(mt.source)}) where the motor drives the joint (torque and speed of one sign); "
+               f"dotted: {back:.4g} N m where the joint back-drives the motor (the gearbox losses then help); fine "
+               f"dotted: continuous torque. Maximum joint speed {ms.value:.4g} rad/s ({escape(ms.source)}).")
+            + f"<p>One allowed peak torque, {mt.value:.4g} N m, is what {escape(j.name)}'s drive gives at its peak current "
+              f"({num(act.peak_current_a)} A) when the motor drives the joint. The check applies it sample by sample: "
+              f"{back:.4g} N m where the joint back-drives the motor, less the torque the rotor's acceleration takes, and, "
+              f"for the voltage, the envelope at the sample's speed with the winding at its temperature limit. The "
+              f"segments table names the bound that applied to each finding.</p>")
     parts.append("</section>")
     return "".join(parts)
 
@@ -269,23 +280,45 @@ def thermal(review, figs=None) -> str:
             cells.append(("not reached" if v is None or (isinstance(v, float) and math.isinf(v)) else num(v), "num"))
         body.append(_row([escape(r.case)] + cells))
     return ('<section id="thermal"><h2>5. Winding temperature over the test</h2>'
-            + figure(f, "Winding temperature [&deg;C] against time [s] over the test duration; solid dark-red line: the winding "
-                        "limit, dotted: ambient. One line style per case.")
+            + figure(f, "Winding temperature [&deg;C] against time [s] over the whole assumed test (without --duration: the "
+                        "plan repeated from cold until the periodic steady state); solid dark-red line: the winding limit, "
+                        "dotted: ambient; one line style per case; a marker and the box give the time at which a winding "
+                        "reaches its limit.")
             + f'<table>{head}{"".join(body)}</table></section>')
+
+
+def bound_text(case, seg, robot) -> str:
+    """What set the allowed value of a flagged segment at its worst sample, in words (the peak torque's
+    power direction, efficiency and rotor share: robots.actuator_limits.explain_torque_bound; the
+    trace's source for the other limits)."""
+    from legbridge.robots.actuator_limits import explain_torque_bound
+
+    tr = next((t for t in case.traces if t.limit == seg.limit and t.joint == seg.joint), None)
+    if tr is None:
+        return ""
+    if seg.limit != "peak_torque":
+        return tr.source
+    traj = case.trajectory
+    u = np.abs(np.asarray(tr.utilisation[seg.i_start:seg.i_end + 1], dtype=float))
+    i = seg.i_start + int(np.nanargmax(u)) if np.isfinite(u).any() else seg.i_start
+    j = list(traj.joint_names).index(seg.joint)
+    joint = robot.joint(seg.joint)
+    speed, accel = traj.motor_side_rates(j, joint.actuator.gear_ratio)
+    return explain_torque_bound(joint, float(traj.tau[i, j]), float(speed[i]), float(accel[i]))
 
 
 def segments(review) -> str:
     """Section 6: every flagged segment of every case."""
     reviews = review.cases
     head = _row(["Case", "Joint", "Limit", "Severity", ("Start [s]", "num"), ("End [s]", "num"), ("Peak", "num"),
-                 ("Allowed", "num"), "Unit", ("Utilisation [%]", "num")], header=True)
+                 ("Allowed", "num"), "Unit", ("Utilisation [%]", "num"), "What set the allowed value"], header=True)
     order = {r.case: i for i, r in enumerate(reviews)}  # plan order, then time
     segs = sorted((s for r in reviews for s in r.segments), key=lambda s: (order.get(s.case, 0), s.t_start_s, s.joint, s.limit))
     body = "".join(_row([
         escape(s.case), escape(joint_label(s.joint)), escape(limit_label(s.limit)),
         (escape(s.severity.words), f"verdict {s.severity.css_class}"),
         (num(s.t_start_s, ".4f"), "num"), (num(s.t_end_s, ".4f"), "num"), (num(s.peak), "num"), (num(s.allowed), "num"),
-        escape(s.unit), (pct(s.utilisation), "num")]) for s in segs)
+        escape(s.unit), (pct(s.utilisation), "num"), escape(bound_text(review.case(s.case), s, review.robot))]) for s in segs)
     empty = "" if segs else "<p>No segment of any case is near or beyond a modelled limit.</p>"
     return (f'<section id="segments"><h2>6. Flagged segments</h2>{empty}'
             f'<table class="segments">{head}{body}</table></section>')
@@ -328,14 +361,24 @@ def sweep(result) -> str:
 def signoff(review) -> str:
     """Section 7: the reviewed drive values, a generic checklist deferring to the lab's rules, blanks to sign."""
     robot = review.robot
-    from legbridge.robots.actuator_limits import max_joint_speed, max_joint_torque
+    from legbridge.robots.actuator_limits import max_joint_torque
 
-    head = _row(["Joint", ("Peak current [A]", "num"), ("Continuous current [A]", "num"), ("Winding voltage, DC-equivalent [V]", "num"),
-                 ("Peak torque [N m]", "num"), ("Max joint speed [rad/s]", "num"), ("Range [rad]", "num")], header=True)
+    from legbridge.robots.actuator_limits import back_driven_joint_torque_nm
+
+    head = _row(["Joint", ("Drive peak current [A]", "num"), ("Continuous current [A]", "num"), ("Bus voltage [V]", "num"),
+                 ("Max motor speed [rad/s]", "num"), ("Winding limit [&deg;C]", "num"),
+                 ("Torque at peak current: motor drives / back-driven [N m]", "num"), ("Range [rad]", "num")], header=True)
     body = "".join(_row([
         escape(j.name), (num(j.actuator.peak_current_a), "num"), (num(j.actuator.continuous_current_a), "num"),
-        (num(j.actuator.max_voltage_v), "num"), (num(max_joint_torque(j).value), "num"),
-        (num(max_joint_speed(j).value), "num"), (f"{j.lower_rad:.4g} to {j.upper_rad:.4g}", "num")]) for j in robot.joints)
+        (num(j.actuator.bus_voltage_v), "num"), (num(j.actuator.max_motor_speed_rad_s), "num"),
+        (num(j.actuator.thermal.max_winding_temp_c), "num"),
+        (f"{num(max_joint_torque(j).value)} / {num(min(back_driven_joint_torque_nm(j.actuator), j.effort_limit_nm or math.inf))}", "num"),
+        (f"{j.lower_rad:.4g} to {j.upper_rad:.4g}", "num")]) for j in robot.joints)
+    settings_note = ("The check bounded each joint's torque through its drive current (DC-equivalent convention): "
+                     "the drive's peak current gives the first torque when the motor drives the joint and the second, "
+                     "higher, one when the joint back-drives the motor; the rotor's acceleration takes a share of it, "
+                     "and at speed the voltage envelope lowers it further (section 4 and the segments table say "
+                     "which bound applied where). Set current limits on the drives, at or below these values.")
     items = "".join(f"<li>{escape(i)}</li>" for i in SIGNOFF_ITEMS)
     blanks = "".join(_row([role, "", "", ""]) for role in ("Prepared by", "Checked by", "Person responsible for the test"))
     version = review.provenance.get("legbridge", "")
@@ -346,8 +389,8 @@ def signoff(review) -> str:
         *[(f"Case {c.case}", escape(c.verdict.words)) for c in review.cases]))
     return (f'<section id="sign-off"><h2>7. Sign-off before the test</h2>'
             f'<table class="signoff-identity">{what}</table>'
-            f'<p>The values this review assumed for each drive (set the drives at or below them):</p>'
-            f'<table>{head}{body}</table>'
+            f'<p>The drive settings this review assumed, per joint:</p>'
+            f'<table>{head}{body}</table><p>{escape(settings_note)}</p>'
             f'<p>Generic reminders only. The lab\'s own safety rules and the person responsible for the test decide what is '
             f'required; tick an item only when it has been done.</p><ul class="checklist">{items}</ul>'
             f'<table class="signoff">{_row(["Role", "Name", "Signature", "Date"], header=True)}{blanks}</table>'
