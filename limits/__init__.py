@@ -12,6 +12,9 @@ Public API (loaded on first use, so the command line starts quickly):
     CheckSettings, CaseReview, LimitSegment, LimitTrace, QPSolution   (limits.checks.results)
     all_limits() -> tuple[Limit, ...]                            every modelled limit (limits.checks)
     CAUTIONS, caution_lines()                                    (limits.cautions)
+    case_joints_figure(case_review, robot), case_force_figure(case_review, robot),
+    torque_speed_figure(case_reviews, robot, joint), thermal_figure(case_reviews, robot, duration_s),
+    figure_keys(review), plot_for(review, key)  -> matplotlib Figures  (limits.review.report.plots)
 """
 
 from legbridge.robots.lazy import lazy_exports
@@ -26,6 +29,9 @@ _WHERE = {
     "CheckSettings": "checks.results", "CaseReview": "checks.results", "LimitSegment": "checks.results",
     "LimitTrace": "checks.results", "QPSolution": "checks.results",
     "CAUTIONS": "cautions", "caution_lines": "cautions",
+    "case_joints_figure": "review.report.plots", "case_force_figure": "review.report.plots",
+    "torque_speed_figure": "review.report.plots", "thermal_figure": "review.report.plots",
+    "figure_keys": "review.report.plots", "plot_for": "review.report.plots",
 }
 
 __all__ = sorted(_WHERE)

@@ -7,6 +7,8 @@ Sign conventions as in the README, "Units and conventions" (joint torque: applie
 
 from __future__ import annotations
 
+from legbridge.robots.reprs import short_repr
+
 from dataclasses import dataclass, fields, replace
 
 import numpy as np
@@ -24,6 +26,7 @@ FLAG_NAMES = {
 }
 
 
+@short_repr('case', 'joint_names', 'rate_hz', 'time_s', 'q')
 @dataclass(frozen=True, eq=False)
 class JointTrajectory:
     """Targets for one case.

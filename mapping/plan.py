@@ -7,6 +7,8 @@ ground on the foot, world frame. Arrays are shaped (n_samples,) and read-only.
 
 from __future__ import annotations
 
+from legbridge.robots.reprs import short_repr
+
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -98,6 +100,7 @@ class Policy:
     touchdown_angle_rad: np.ndarray
 
 
+@short_repr('path', 'cases')
 @dataclass(frozen=True, eq=False)
 class Plan:
     """A plan file as read: its cases, where it came from and how it was scaled.

@@ -45,6 +45,8 @@ Times [s], lengths [m], angles [rad], forces [N]; arrays shaped (n,).
 
 from __future__ import annotations
 
+from legbridge.robots.reprs import short_repr
+
 from dataclasses import dataclass
 
 import numpy as np
@@ -65,6 +67,7 @@ class Channel:
     accel: np.ndarray
 
 
+@short_repr('time_s')
 @dataclass(frozen=True, eq=False)
 class ResampledCase:
     """A case on the controller's time grid.

@@ -18,6 +18,8 @@ chain's (robots.urdf_reader.build_urdf_leg_model).
 """
 
 from __future__ import annotations
+
+from .reprs import short_repr
 from legbridge.robots.errors import Described
 
 from dataclasses import dataclass
@@ -30,6 +32,7 @@ from .leg_model import BASE_JOINTS, HIP_FRAME, LegModel, add_native_chain, build
 from .robot import Robot
 
 
+@short_repr('legs', 'joint_names')
 @dataclass(frozen=True, eq=False)
 class BipedModel:
     """A Pinocchio model of both legs and the indices needed to use it.

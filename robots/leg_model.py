@@ -8,6 +8,8 @@ frame sits at the distal end of the last segment. Zero joint angles: the leg han
 """
 
 from __future__ import annotations
+
+from .reprs import short_repr
 from legbridge.robots.errors import Described
 
 from dataclasses import dataclass
@@ -23,6 +25,7 @@ FOOT_FRAME = "foot"
 HIP_FRAME = "hip"
 
 
+@short_repr('joint_names', 'link_lengths_m')
 @dataclass(frozen=True, eq=False)
 class LegModel:
     """A Pinocchio model of one leg plus the indices needed to use it.

@@ -16,6 +16,8 @@ does the conversion and documents it).
 
 from __future__ import annotations
 
+from .reprs import short_repr
+
 from dataclasses import dataclass, field
 
 KNEE_BRANCHES = ("backward", "forward")
@@ -172,6 +174,7 @@ class UrdfSource:
     leg_mass_kg: float | None = None
 
 
+@short_repr('name', 'legs', 'joints', 'segments', 'source')
 @dataclass(frozen=True)
 class Robot:
     """A validated leg description.

@@ -8,6 +8,8 @@ Convention for every array here: time axis first, shape (n_samples, ...), SI uni
 
 from __future__ import annotations
 
+from legbridge.robots.reprs import short_repr
+
 import math
 from dataclasses import dataclass, field
 
@@ -116,6 +118,7 @@ class LimitSegment:
     utilisation: float
 
 
+@short_repr('limit', 'joint', 'unit', 'value')
 @dataclass(frozen=True, eq=False)
 class LimitTrace:
     """One limit evaluated at every sample: value, allowed value and utilisation, shape (n,).
@@ -134,6 +137,7 @@ class LimitTrace:
     source: str = ""
 
 
+@short_repr('name', 'status', 'ok', 'solve_time_s')
 @dataclass(frozen=True, eq=False)
 class QPSolution:
     """Outcome of one batched QP: status, timing, residuals and the solution arrays.
@@ -154,6 +158,7 @@ class QPSolution:
     residuals: dict = field(default_factory=dict)
 
 
+@short_repr('joint_names', 'duration_s', 'time_to_limit_s')
 @dataclass(frozen=True, eq=False)
 class ThermalResult:
     """Winding temperatures over the assumed test (limits.checks.thermal).
@@ -199,6 +204,7 @@ class ThermalResult:
         return f"a {self.duration_s:g} s test, the {self.period_s:g} s plan repeated"
 
 
+@short_repr('case', 'summary', 'segments')
 @dataclass(frozen=True, eq=False)
 class CaseReview:
     """Everything the checks found for one case.

@@ -10,6 +10,8 @@ ranking.
 
 from __future__ import annotations
 
+from legbridge.robots.reprs import short_repr
+
 import time
 from collections.abc import Callable
 from dataclasses import dataclass, field
@@ -24,6 +26,7 @@ Progress = Callable[[str], None]
 SWEEP_AUTO = "auto"  # sweep the default ground-height grid when the plan carries an open-loop policy
 
 
+@short_repr('plan', 'robot', 'cases', 'ranking')
 @dataclass(frozen=True, eq=False)
 class Review:
     """One review of a plan on a robot.

@@ -20,6 +20,8 @@ difference ``dvx_m_s`` [m/s]; RMS over the paired apexes and the last paired one
 """
 
 from __future__ import annotations
+
+from legbridge.robots.reprs import short_repr
 from legbridge.robots.errors import Described
 
 import math
@@ -353,6 +355,7 @@ def sweep_window(results) -> SweepWindow:
     return SweepWindow(rs[i].offset_m, rs[j].offset_m, below, above, j - i + 1)
 
 
+@short_repr('plan_path', 'robot_name', 'offsets', 'window')
 @dataclass(frozen=True)
 class SweepResult:
     """The sweep of one (plan, robot) pair, offsets sorted ascending.

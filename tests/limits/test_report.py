@@ -115,16 +115,16 @@ def test_known_violation_is_in_the_segments_table(reviewed):
 
 def test_joint_figure_shades_the_violation_in_the_torque_row(robot, reviewed):
     reviews = reviewed[0].cases
-    fig = plots.case_joints_figure(reviews[2], robot)
+    fig = plots.embed(plots.case_joints_figure(reviews[2], robot))
     exceeds = [s for s in fig.shaded if s.severity == "exceeds"]
     # the torque over its bound is, through Kt, the drive current over its peak: both rows, one span
     assert sorted((s.joint, s.row) for s in exceeds) == [("hip", "current"), ("hip", "torque")]
     for s in exceeds:
         assert s.t_start_s == pytest.approx(0.135) and s.t_end_s == pytest.approx(0.265)
     assert fig.png[:8] == b"\x89PNG\r\n\x1a\n"  # PNG signature (PNG specification, section 5.2)
-    assert plots.case_joints_figure(reviews[0], robot).shaded == ()  # the within case shades nothing
+    assert plots.case_joints_figure(reviews[0], robot).legbridge.shaded == ()  # the within case shades nothing
     # torque segments are not ground-force limits: the force figure shades nothing for them
-    assert plots.case_force_figure(reviews[2], robot).shaded == ()
+    assert plots.case_force_figure(reviews[2], robot).legbridge.shaded == ()
 
 
 def test_row_for_limit_names_of_the_checks():

@@ -1,7 +1,8 @@
 """Figures of the pre-test review, one function per figure (matplotlib, Agg canvas, no pyplot state).
 
-Every function returns a :class:`Figure`: the PNG bytes, the alternative text, and the spans it shaded
-(so tests and readers can see what was marked). Plots are meant to stay readable in print and in
+Every plot function returns a Matplotlib figure (restyle it, save it, show it in a notebook) that
+carries a :class:`FigureInfo` as ``fig.legbridge``: its name, alternative text, the spans it shaded
+and notes. The report embeds each one as a :class:`Figure` (PNG bytes) through :func:`embed`. Plots are meant to stay readable in print and in
 greyscale: every series has its own line style or marker, flagged spans are hatched as well as tinted.
 Units: time [s], joint angle [rad], joint speed [rad/s], joint torque [N m], force [N], temperature [degC].
 """
@@ -10,12 +11,16 @@ from __future__ import annotations
 
 import io
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from legbridge.limits.checks import get_limit
 from legbridge.limits.checks.base import PANEL_GROUND
 from legbridge.limits.verdict import Verdict
+
+if TYPE_CHECKING:
+    from matplotlib.figure import Figure as MplFigure
 
 SEVERITY_EXCEEDS, SEVERITY_NEAR = Verdict.EXCEEDS, Verdict.NEAR
 
@@ -120,6 +125,29 @@ def _style_axes(ax) -> None:
     ax.xaxis.label.set_size(8.5)
     ax.yaxis.label.set_size(8.5)
     ax.title.set_size(9)
+
+
+@dataclass(frozen=True)
+class FigureInfo:
+    """What a report needs besides the drawing: its name, alternative text, shaded spans and notes
+    (attached to each Matplotlib figure the plot functions return, as ``fig.legbridge``)."""
+
+    name: str
+    alt: str
+    shaded: tuple[Shade, ...] = ()
+    notes: tuple[str, ...] = ()
+
+
+def _finish(fig, name: str, alt: str, shaded=(), notes=()):
+    """The Matplotlib figure, with its FigureInfo attached: what every plot function returns."""
+    fig.legbridge = FigureInfo(name, alt, tuple(shaded), tuple(notes))
+    return fig
+
+
+def embed(fig) -> Figure:
+    """A plot function's Matplotlib figure rendered for the report: PNG bytes with its FigureInfo."""
+    info = fig.legbridge
+    return Figure(info.name, _png(fig), info.alt, info.shaded, info.notes)
 
 
 def _png(fig) -> bytes:
@@ -274,7 +302,7 @@ def zoomed(review, window):
                            case=f"{review.case}, {window[0]:.3f}-{window[1]:.3f} s")
 
 
-def case_joints_figure(review, robot) -> Figure:
+def case_joints_figure(review, robot) -> MplFigure:
     """Joint angle, speed, torque, drive current and winding voltage of one case against time, with
     limit bands and flagged spans (labelled with the limit where it is exceeded).
 
@@ -371,7 +399,7 @@ def case_joints_figure(review, robot) -> Figure:
     fig.suptitle(f"Case {review.case}: joint targets against the modelled limits", fontsize=10, color=INK)
     alt = (f"Joint angle, speed, torque, current and voltage of case {review.case} against time for joints {', '.join(names)}, "
            f"with limit lines; {len(review.segments)} flagged segment(s) shaded.")
-    return Figure(f"case-{review.case}-joints", _png(fig), alt, tuple(shaded), tuple(notes))
+    return _finish(fig, f"case-{review.case}-joints", alt, tuple(shaded), tuple(notes))
 
 
 def _achievable_force(review) -> tuple[np.ndarray | None, str]:
@@ -384,7 +412,7 @@ def _achievable_force(review) -> tuple[np.ndarray | None, str]:
     return np.asarray(qp.values["force_n"], dtype=float), ""
 
 
-def case_force_figure(review, robot, friction: float | None = None) -> Figure:
+def case_force_figure(review, robot, friction: float | None = None) -> MplFigure:
     """Ground force of one case: planned (x, z) [N] against the QP's achievable force and the friction cone.
 
     Whole-leg segments (joint '') and force or friction limits are shaded.
@@ -426,10 +454,10 @@ def case_force_figure(review, robot, friction: float | None = None) -> Figure:
     notes = (why,) if why else ()
     alt = f"Planned ground force of case {review.case} against time, with the friction cone" + (
         " and the achievable force from the QP." if not why else f"; {why}.")
-    return Figure(f"case-{review.case}-force", _png(fig), alt, tuple(shaded), notes)
+    return _finish(fig, f"case-{review.case}-force", alt, tuple(shaded), notes)
 
 
-def torque_speed_figure(reviews, robot, joint_name: str) -> Figure:
+def torque_speed_figure(reviews, robot, joint_name: str) -> MplFigure:
     """Torque-speed plane of one joint, one small panel per case (the other cases in light grey behind):
     voltage and current envelope, the peak torque by power direction, the continuous torque.
 
@@ -507,10 +535,10 @@ def torque_speed_figure(reviews, robot, joint_name: str) -> Figure:
     fig.suptitle(f"{joint_name}: torque-speed plane, one panel per case", fontsize=10, color=INK)
     alt = (f"Torque against speed of joint {joint_name}, one panel per case, inside the motor's voltage and current "
            f"envelope; peak torque {tmax:.4g} N m when the motor drives the joint, {tback:.4g} N m when it is back-driven.")
-    return Figure(f"joint-{joint_name}-torque-speed", _png(fig), alt, (), tuple(notes))
+    return _finish(fig, f"joint-{joint_name}-torque-speed", alt, (), tuple(notes))
 
 
-def thermal_figure(reviews, robot, duration_s: float | None) -> Figure:
+def thermal_figure(reviews, robot, duration_s: float | None) -> MplFigure:
     """Winding temperature [degC] of every joint over the test duration [s], against its limit.
 
     One panel per joint; one line style per case.
@@ -556,7 +584,7 @@ def thermal_figure(reviews, robot, duration_s: float | None) -> Figure:
                  fontsize=10, color=INK)
     alt = ("Winding temperature of each joint against time over the whole assumed test, with its limit"
            + (" and where a winding reaches it." if notes else "; no winding reaches its limit."))
-    return Figure("thermal", _png(fig), alt, (), tuple(notes))
+    return _finish(fig, "thermal", alt, (), tuple(notes))
 
 
 def figure_keys(review) -> list:
@@ -569,7 +597,12 @@ def figure_keys(review) -> list:
 
 
 def figure_for(review, key) -> Figure:
-    """The report figure ``key`` (figure_keys) of ``review``."""
+    """The report figure ``key`` (figure_keys) of ``review``, rendered (embed)."""
+    return embed(plot_for(review, key))
+
+
+def plot_for(review, key):
+    """The Matplotlib figure ``key`` (figure_keys) of ``review``."""
     kind, arg = key
     robot, settings = review.robot, review.settings
     if kind == "joints":
