@@ -227,14 +227,18 @@ def cases(review, figs=None) -> str:
         parts.append(
             f'<article class="case" id="case-{slug(r.case)}"><h3>Case {escape(r.case)} '
             f'(ground height {num(r.ground_height_m)} m): {escape(r.verdict.words)}</h3>{findings}'
-            + figure(fj, "Joint angle [rad], speed [rad/s] and torque [N m] against time [s]. Solid dark-red lines: hard stops, "
-                     "maximum joint speed and peak torque; dashed: the torque the voltage envelope allows at the planned speed, where that "
-                     "is tighter than the peak torque. Triangles at a panel edge: samples beyond the plotted scale. "
-                     "Hatched spans: flagged segments (diagonal = exceeds, dotted = near).")
+            + figure(fj, "Joint angle [rad], speed [rad/s], torque [N m], drive current [A, DC-equivalent] and winding voltage "
+                     "[V, the winding at its temperature limit] against time [s]. Solid dark-red lines: hard stops, maximum joint "
+                     "speed, peak torque (the motor driving the joint), the drive's peak current and voltage; dashed: the torque the "
+                     "voltage envelope allows at the planned speed, where that is tighter than the peak torque. Grey bands: this "
+                     "joint's leg in stance (darker) and in its generated swing (lighter). Triangles at a panel edge: samples beyond "
+                     "the plotted scale. Hatched spans: flagged segments (diagonal = exceeds, dotted = near), each drawn at least "
+                     "1.2 % of the time axis wide; the limit exceeded is named above its span.")
             + (figure(fz, f"The joints from {window[0]:.3f} to {window[1]:.3f} s, around this case's worst flagged segment "
                       "(the plan is long: the overview above thins each line to its minima and maxima).") if fz is not None else "")
-            + figure(ff, "Ground force on the foot [N] against time [s]: planned (solid), the closest achievable force found by the "
-                     "force-feasibility QP (dashed) and the friction cone bound &plusmn;&mu;F<sub>z</sub>.")
+            + figure(ff, "Ground force on the foot [N] against time [s]: planned (wide light band), the closest achievable force "
+                     "found by the force-feasibility QP (thin dark dashes on top) and the friction cone bound "
+                     "&plusmn;&mu;F<sub>z</sub> (dotted).")
             + "</article>")
     parts.append("</section>")
     return "".join(parts)
@@ -308,19 +312,33 @@ def bound_text(case, seg, robot) -> str:
 
 
 def segments(review) -> str:
-    """Section 6: every flagged segment of every case."""
+    """Section 6: what set each allowed value (one row per joint and limit, at its worst finding), then
+    every flagged segment of every case."""
     reviews = review.cases
     head = _row(["Case", "Joint", "Limit", "Severity", ("Start [s]", "num"), ("End [s]", "num"), ("Peak", "num"),
-                 ("Allowed", "num"), "Unit", ("Utilisation [%]", "num"), "What set the allowed value"], header=True)
+                 ("Allowed", "num"), "Unit", ("Utilisation [%]", "num")], header=True)
     order = {r.case: i for i, r in enumerate(reviews)}  # plan order, then time
     segs = sorted((s for r in reviews for s in r.segments), key=lambda s: (order.get(s.case, 0), s.t_start_s, s.joint, s.limit))
     body = "".join(_row([
         escape(s.case), escape(joint_label(s.joint)), escape(limit_label(s.limit)),
         (escape(s.severity.words), f"verdict {s.severity.css_class}"),
         (num(s.t_start_s, ".4f"), "num"), (num(s.t_end_s, ".4f"), "num"), (num(s.peak), "num"), (num(s.allowed), "num"),
-        escape(s.unit), (pct(s.utilisation), "num"), escape(bound_text(review.case(s.case), s, review.robot))]) for s in segs)
+        escape(s.unit), (pct(s.utilisation), "num")]) for s in segs)
+    worst: dict = {}
+    for s in segs:
+        if (s.joint, s.limit) not in worst or s.utilisation > worst[(s.joint, s.limit)].utilisation:
+            worst[(s.joint, s.limit)] = s
+    bounds_head = _row(["Joint", "Limit", ("Allowed", "num"), "Unit", "At", "What set the allowed value"], header=True)
+    bounds = "".join(_row([
+        escape(joint_label(s.joint)), escape(limit_label(s.limit)), (num(s.allowed), "num"), escape(s.unit),
+        escape(f"{s.case}, {s.t_start_s:.3f}-{s.t_end_s:.3f} s"), escape(bound_text(review.case(s.case), s, review.robot))])
+        for s in sorted(worst.values(), key=lambda s: (-s.utilisation, s.joint, s.limit)))
     empty = "" if segs else "<p>No segment of any case is near or beyond a modelled limit.</p>"
-    return (f'<section id="segments"><h2>6. Flagged segments</h2>{empty}'
+    explained = ("" if not segs else
+                 "<p>The allowed value of a limit can change from sample to sample (the power direction, the rotor's "
+                 "acceleration, the speed). For each joint and limit, at its worst finding:</p>"
+                 f'<table class="bounds">{bounds_head}{bounds}</table>')
+    return (f'<section id="segments"><h2>6. Flagged segments</h2>{empty}{explained}'
             f'<table class="segments">{head}{body}</table></section>')
 
 
