@@ -210,7 +210,7 @@ def back_driven_joint_torque_nm(act: Actuator) -> float:
 
 
 def explain_torque_bound(joint: Joint, joint_torque_nm: float, motor_side_speed_rad_s: float,
-                         motor_side_accel_rad_s2: float = 0.0) -> str:
+                         motor_side_accel_rad_s2: float = 0.0, *, brief: bool = False) -> str:
     """In words, what set the peak-torque bound at one sample (the bound joint_torque_limits_nm gives
     with voltage=False): the drive's peak current through Kt and the gear ratio, the gearbox
     efficiency by power direction, the torque the rotor's acceleration takes, and the effort limit.
@@ -227,6 +227,13 @@ def explain_torque_bound(joint: Joint, joint_torque_nm: float, motor_side_speed_
            if back else
            f"{static:.4g} N m = {n:g} x {kt:.4g} N m/A x {ipk:.4g} A x efficiency {eta:g} (the motor drives the joint)")
     rotor = static - abs(bound)
+    if brief:  # one clause for a terminal line
+        text = f"{static:.4g} N m at the drive's peak current, {'back-driven' if back else 'motor driving'}"
+        if abs(rotor) >= 5e-4 * static:
+            text += f", {'less' if rotor > 0 else 'plus'} {abs(rotor):.3g} N m for the rotor"
+        if joint.effort_limit_nm is not None and joint.effort_limit_nm < abs(bound):
+            text += f"; effort limit {joint.effort_limit_nm:.4g} N m"
+        return text
     text = f"drive peak current: {how}"
     if abs(rotor) >= 5e-4 * static:
         text += (f", {'less' if rotor > 0 else 'plus'} {abs(rotor):.3g} N m for the rotor's acceleration "

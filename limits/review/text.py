@@ -39,6 +39,28 @@ def case_findings(case) -> list:
     return out
 
 
+def bound_text(case, seg, robot, *, brief: bool = False) -> str:
+    """What set the allowed value of a flagged segment at its worst sample, in words (the peak torque's
+    power direction, efficiency and rotor share: robots.actuator_limits.explain_torque_bound; the
+    trace's source for the other limits)."""
+    import numpy as np
+
+    from legbridge.robots.actuator_limits import explain_torque_bound
+
+    tr = next((t for t in case.traces if t.limit == seg.limit and t.joint == seg.joint), None)
+    if tr is None:
+        return ""
+    if seg.limit != "peak_torque":
+        return "" if brief else tr.source
+    traj = case.trajectory
+    u = np.abs(np.asarray(tr.utilisation[seg.i_start:seg.i_end + 1], dtype=float))
+    i = seg.i_start + int(np.nanargmax(u)) if np.isfinite(u).any() else seg.i_start
+    j = list(traj.joint_names).index(seg.joint)
+    joint = robot.joint(seg.joint)
+    speed, accel = traj.motor_side_rates(j, joint.actuator.gear_ratio)
+    return explain_torque_bound(joint, float(traj.tau[i, j]), float(speed[i]), float(accel[i]), brief=brief)
+
+
 def answer_line(case) -> str:
     """The answer for one case in one line: verdict, worst limit and joint, how far, and where."""
     s = case.summary
@@ -112,9 +134,10 @@ def finding_lines(review: Review) -> list[str]:
         for c in shown:
             segs = case_findings(c)
             for s in segs[:SHOWN_PER_CASE]:
+                why = bound_text(c, s, review.robot, brief=True)
                 out.append(f"  {s.case} / {joint_label(s.joint)} / {limit_label(s.limit)}: {s.severity.value}, "
-                           f"{s.t_start_s:.3f}-{s.t_end_s:.3f} s, peak {s.peak:.4g} {s.unit} against {s.allowed:.4g} {s.unit}, "
-                           f"utilisation {utilisation_text(s.utilisation)}")
+                           f"{s.t_start_s:.3f}-{s.t_end_s:.3f} s, peak {s.peak:.4g} {s.unit} against {s.allowed:.4g} {s.unit}"
+                           + (f" ({why})" if why else "") + f", utilisation {utilisation_text(s.utilisation)}")
             if len(segs) > SHOWN_PER_CASE:
                 out.append(f"  {c.case}: +{len(segs) - SHOWN_PER_CASE} more (every segment is in the review JSON and "
                            "the report's segments table)")

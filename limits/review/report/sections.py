@@ -12,9 +12,8 @@ import os
 import re
 from html import escape
 
-import numpy as np
-
 from legbridge.limits.cautions import CAUTIONS
+from legbridge.limits.review.text import bound_text
 from legbridge.limits.verdict import Verdict, joint_label, limit_label, utilisation_text
 from legbridge.robots.robot import STANDARD_GRAVITY_M_S2
 
@@ -289,26 +288,6 @@ def thermal(review, figs=None) -> str:
                         "dotted: ambient; one line style per case; a marker and the box give the time at which a winding "
                         "reaches its limit.")
             + f'<table>{head}{"".join(body)}</table></section>')
-
-
-def bound_text(case, seg, robot) -> str:
-    """What set the allowed value of a flagged segment at its worst sample, in words (the peak torque's
-    power direction, efficiency and rotor share: robots.actuator_limits.explain_torque_bound; the
-    trace's source for the other limits)."""
-    from legbridge.robots.actuator_limits import explain_torque_bound
-
-    tr = next((t for t in case.traces if t.limit == seg.limit and t.joint == seg.joint), None)
-    if tr is None:
-        return ""
-    if seg.limit != "peak_torque":
-        return tr.source
-    traj = case.trajectory
-    u = np.abs(np.asarray(tr.utilisation[seg.i_start:seg.i_end + 1], dtype=float))
-    i = seg.i_start + int(np.nanargmax(u)) if np.isfinite(u).any() else seg.i_start
-    j = list(traj.joint_names).index(seg.joint)
-    joint = robot.joint(seg.joint)
-    speed, accel = traj.motor_side_rates(j, joint.actuator.gear_ratio)
-    return explain_torque_bound(joint, float(traj.tau[i, j]), float(speed[i]), float(accel[i]))
 
 
 def segments(review) -> str:
