@@ -117,7 +117,7 @@ def check_output_folder(out_dir: str | Path, names, *, inputs=(), force: bool = 
         present = [n for n in names if (out / n).exists()]
         if present:
             raise OutputExistsError("previous outputs in the folder", path=str(out), expected="a folder without them",
-                                    found=Described(", ").join(present), hint=FORCE_HINT)
+                                    found=Described(", ".join(present)), hint=FORCE_HINT)
     # the folder, or the nearest existing folder above it (where it will be created), must be writable
     probe = out if out.is_dir() else next((p for p in out.absolute().parents if p.is_dir()), Path("."))
     refuse_unwritable(probe)

@@ -13,6 +13,14 @@ from .base import CheckContext, Limit, PANEL_ANGLE, SCOPE_JOINT, trace
 
 
 
+def range_utilisation(q, lower_rad: float, upper_rad: float) -> tuple[np.ndarray, np.ndarray]:
+    """(utilisation, the nearer stop) of joint angles ``q`` [rad] between two hard stops."""
+    q = np.asarray(q, dtype=float)
+    half = 0.5 * (upper_rad - lower_rad)
+    to_hi, to_lo = upper_rad - q, q - lower_rad
+    return 1.0 - np.minimum(to_hi, to_lo) / half, np.where(to_hi <= to_lo, upper_rad, lower_rad)
+
+
 def evaluate(ctx: CheckContext):
     """This limit's LimitTraces for one case (value, allowed and utilisation per sample)."""
     out = []
@@ -20,9 +28,7 @@ def evaluate(ctx: CheckContext):
         q = ctx.traj.q[:, i]
         lo, hi = joint.lower_rad, joint.upper_rad
         half = 0.5 * (hi - lo)
-        to_hi, to_lo = hi - q, q - lo
-        util = 1.0 - np.minimum(to_hi, to_lo) / half
-        allowed = np.where(to_hi <= to_lo, hi, lo)
+        util, allowed = range_utilisation(q, lo, hi)
         near = None if ctx.settings.range_margin_rad is None else 1.0 - ctx.settings.range_margin_rad / half
         out.append(trace("joint_range", joint.name, "rad", q, allowed, util, near_from=near, source="hard stops"))
     return tuple(out)

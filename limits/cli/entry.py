@@ -1,5 +1,5 @@
 """The ``legbridge`` command line: one sub-command per module of limits/cli/ (check, review, robot,
-sweep, translate); shared options in limits/cli/options.py.
+sweep, translate, after-test); shared options in limits/cli/options.py.
 
 Exit status: 0 every case within the modelled limits, 1 a limit is exceeded (the review
 is still written), 2 bad input (one message on stderr, no traceback, nothing written), 3 an
@@ -16,7 +16,7 @@ from legbridge.robots.errors import LegbridgeError
 from legbridge.robots.version import tool_version
 
 # Sub-command modules, each with register(subparsers) that sets ``func(args) -> int``.
-COMMAND_MODULES = ("robot", "translate", "check", "review", "sweep")
+COMMAND_MODULES = ("robot", "translate", "check", "review", "sweep", "after_test")
 
 EXIT_WITHIN, EXIT_EXCEEDS, EXIT_BAD_INPUT, EXIT_INTERNAL = 0, 1, 2, 3
 

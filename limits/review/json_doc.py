@@ -9,6 +9,7 @@ Schema (every number SI; a number that is not finite is written as null; times i
     created         when the review was made (ISO 8601)
     plan_path, plan_sha256      the plan file and the SHA-256 (hex) of its bytes (null if unknown)
     robot, robot_sha256         robot name and the SHA-256 of its description file
+    robot_path                  the robot description file reviewed (what `legbridge after-test` re-reads)
     legs, gait                  a biped's legs (['left', 'right'], [] for one leg) and its gait in words (null)
     settings        the CheckSettings used (rate_hz, duration_s, margin, friction, supply_power_w,
                     regen_energy_j, range_margin_rad, max_joint_accel_rad_s2, run_qps, solver)
@@ -154,6 +155,7 @@ def review_to_json(review: Review) -> dict:
         "plan_sha256": getattr(plan, "sha256", None) or None,
         "robot": robot.name,
         "robot_sha256": robot.sha256 or None,
+        "robot_path": str(robot.source) if getattr(robot, "source", None) else None,
         "legs": list(robot.legs),
         "gait": review.gait or None,
         "settings": asdict(review.settings),

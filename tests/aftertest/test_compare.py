@@ -1,0 +1,82 @@
+"""The after-test comparison on logs made from the reviewed trajectory itself.
+
+References: a log that repeats the reviewed targets and predicted currents exactly must align at the
+planted start (to a fraction of a log sample), track with zero error, show a current gain of 1 and reach
+the same utilisations as the review (an identity: the same numbers through another path); a log whose
+currents are all 1/0.88 times the prediction is what a torque constant 12 % low gives, I = tau / (eta N Kt)
+(DC motor model, Hughes and Drury, Electric Motors and Drives, ch. 3), and must show that gain.
+"""
+
+from __future__ import annotations
+
+from dataclasses import replace
+
+import numpy as np
+import pytest
+
+from legbridge.limits.aftertest.compare import compare_log, periodic_at
+from legbridge.limits.aftertest.log_reader import read_log
+from legbridge.limits.checks.case import check_case
+from legbridge.limits.checks.results import CheckSettings
+from legbridge.mapping.pipeline import prepare
+from legbridge.robots.library import resolve_robot
+
+from pathlib import Path
+
+PLAN = Path(__file__).resolve().parents[2] / "examples" / "demo-run-plan.json"
+START_S = 0.8371          # log time at which the motion starts (planted)
+PERIODS = 6
+
+
+@pytest.fixture(scope="module")
+def reviewed():
+    settings = CheckSettings(rate_hz=500.0, run_qps=False)
+    prep = prepare(str(PLAN), resolve_robot("lab-biped"), rate_hz=500.0, cases=["nominal"])
+    return check_case(prep.trajectories[0], prep.robot, settings), prep.robot, settings
+
+
+def _log(tmp_path, reviewed, current_scale=1.0, seed=3):
+    rv, robot, _ = reviewed
+    traj = rv.trajectory
+    period = rv.thermal.period_s
+    rng = np.random.default_rng(seed)
+    steps = 0.005 + rng.uniform(-5e-4, 5e-4, int((START_S + PERIODS * period) / 0.005))
+    t = np.cumsum(steps)
+    t = t[t < START_S + PERIODS * period]
+    plan_t = np.where(t >= START_S, t - START_S, np.nan)
+    cols = {"time_s": t}
+    for j, n in enumerate(traj.joint_names):
+        first = np.full(t.shape, traj.q[0, j])
+        cols[f"{n}_position_rad"] = np.where(np.isnan(plan_t), first, periodic_at(traj.time_s, traj.q[:, j], plan_t, period))
+        cols[f"{n}_velocity_rad_s"] = np.nan_to_num(periodic_at(traj.time_s, traj.qd[:, j], plan_t, period))
+        cols[f"{n}_current_a"] = current_scale * np.nan_to_num(periodic_at(traj.time_s, traj.current_a[:, j], plan_t, period))
+    path = tmp_path / "log.npz"
+    np.savez(path, **cols)
+    return read_log(str(path), None, joints=tuple(traj.joint_names), legs=("left", "right"))
+
+
+def test_a_log_of_the_reviewed_motion_aligns_tracks_and_matches(tmp_path, reviewed):
+    rv, robot, settings = reviewed
+    log = _log(tmp_path, reviewed)
+    res = compare_log(log, rv, robot, settings)
+    assert res.alignment.offset_s == pytest.approx(START_S, abs=0.0025)   # half a log sample
+    for x in res.tracking:
+        assert abs(x.position_rms) < 5e-3 and abs(x.lag_s) < 0.003   # (the plan jumps where it restarts)
+    for c in res.currents:
+        assert c.gain == pytest.approx(1.0, abs=0.01)
+    # the same peak-current utilisation through the log as through the review (to the interpolation)
+    rev = {(w.joint, w.limit): w.utilisation for w in rv.summary.by_limit}
+    for m in res.margin:
+        if m.limit == "peak_current":
+            assert m.measured == pytest.approx(rev[(m.joint, m.limit)], abs=0.03)
+
+
+def test_a_twelve_percent_weaker_motor_shows_in_the_gain_and_the_torque_constant(tmp_path, reviewed):
+    rv, robot, settings = reviewed
+    log = _log(tmp_path, reviewed, current_scale=1 / 0.88)
+    res = compare_log(log, rv, robot, settings)
+    for c in res.currents:
+        assert c.gain == pytest.approx(1 / 0.88, rel=0.01)
+    knee = res.drive_fits["left_knee"].torque_constant_nm_per_a
+    assert knee.value == pytest.approx(0.88 * 0.20, rel=0.02)
+    assert not knee.within_ci(0.20)
