@@ -55,6 +55,7 @@ def differs(e) -> bool:
 
 
 def after_test_to_json(result, corrected=None) -> dict:
+    """The comparison as a JSON-ready dict (keys in the module docstring)."""
     from legbridge.robots.version import tool_version
 
     from legbridge.limits.review.review import now_iso
@@ -95,6 +96,22 @@ def after_test_to_json(result, corrected=None) -> dict:
 SHOWN = 5
 
 
+def grouped_segments(result) -> list[dict]:
+    """The measured segments grouped by joint, limit and severity, worst first: how many runs, the worst
+    one (peak, allowed, utilisation, when), the first and last time and the time spent in them [s]."""
+    groups: dict = {}
+    for g in result.segments:  # worst first already
+        k = (g.joint, g.limit, g.severity)
+        if k not in groups:
+            groups[k] = {"joint": g.joint, "limit": g.limit, "severity": g.severity, "worst": g, "count": 0,
+                         "first_s": g.t_start_s, "last_s": g.t_end_s, "time_s": 0.0}
+        d = groups[k]
+        d["count"] += 1
+        d["first_s"], d["last_s"] = min(d["first_s"], g.t_start_s), max(d["last_s"], g.t_end_s)
+        d["time_s"] += g.t_end_s - g.t_start_s
+    return list(groups.values())
+
+
 def after_test_lines(result, corrected=None, *, paths=None, rereview: str = "") -> list[str]:
     """The terminal summary: alignment, what the measured samples show, the margin used, what differs
     from the robot file, where the outputs are, and the caution."""
@@ -105,11 +122,14 @@ def after_test_lines(result, corrected=None, *, paths=None, rereview: str = "") 
            "  tracking lag beyond that: " + ", ".join(f"{j} {1e3 * v:.1f} ms" for j, v in result.lags_s.items()),
            "",
            f"Measured: {s.verdict.words}" + (f"; worst {s.worst.text}" if s.worst else "")]
-    for g in result.segments[:SHOWN]:
-        out.append(f"  {joint_label(g.joint)} / {limit_label(g.limit)}: {g.severity.value}, log {g.t_start_s:.3f}-{g.t_end_s:.3f} s, "
-                   f"peak {g.peak:.4g} {g.unit} against {g.allowed:.4g} {g.unit}, utilisation {utilisation_text(g.utilisation)}")
-    if len(result.segments) > SHOWN:
-        out.append(f"  +{len(result.segments) - SHOWN} more (after-test.json and the report list every one)")
+    groups = grouped_segments(result)
+    for d in groups[:SHOWN]:
+        g = d["worst"]
+        out.append(f"  {joint_label(g.joint)} / {limit_label(g.limit)}: {g.severity.value} in {d['count']} run(s) from log "
+                   f"{d['first_s']:.1f} s to {d['last_s']:.1f} s; worst at {g.t_start_s:.3f} s, peak {g.peak:.4g} {g.unit} "
+                   f"against {g.allowed:.4g} {g.unit}, utilisation {utilisation_text(g.utilisation)}")
+    if len(groups) > SHOWN:
+        out.append(f"  +{len(groups) - SHOWN} more joint and limit pair(s) (after-test.json lists every run)")
     used = [m for m in result.margin if m.share_used is not None and m.reviewed is not None and m.reviewed > 0.5]
     if used:
         out.append("Reviewed against measured utilisation (share of the reviewed margin used):")

@@ -15,7 +15,7 @@ from legbridge.limits.review.report import plots
 from legbridge.limits.review.report.sections import _row, figure, num, pct
 from legbridge.limits.verdict import joint_label, limit_label
 
-from .document import MIN_RELATIVE_CHANGE, differs, estimates
+from .document import MIN_RELATIVE_CHANGE, differs, estimates, grouped_segments
 
 WINDOW_PERIODS = 2.0   # the tracking and current figures show this many plan periods
 
@@ -136,12 +136,15 @@ def render_after_test(result, corrected=None) -> str:
              ("legbridge version", escape(version)), ("Compared at", escape(now_iso()))]
     identity = (f'<section id="caution-and-identity"><h2>1. Caution and what was compared</h2><div class="caution">{caution}</div>'
                 f'<table class="identity">{"".join(f"<tr><th>{k}</th><td>{v}</td></tr>" for k, v in ident)}</table></section>')
-    seg_head = _row(["Joint", "Limit", "Severity", ("Start [s]", "num"), ("End [s]", "num"), ("Peak", "num"), ("Allowed", "num"),
-                     "Unit", ("Utilisation [%]", "num")], header=True)
-    seg_body = "".join(_row([escape(joint_label(g.joint)), escape(limit_label(g.limit)),
-                             (escape(g.severity.words), f"verdict {g.severity.css_class}"), (num(g.t_start_s, ".3f"), "num"),
-                             (num(g.t_end_s, ".3f"), "num"), (num(g.peak), "num"), (num(g.allowed), "num"), escape(g.unit),
-                             (pct(g.utilisation), "num")]) for g in result.segments)
+    seg_head = _row(["Joint", "Limit", "Severity", ("Runs", "num"), ("First [s]", "num"), ("Last [s]", "num"),
+                     ("Time in them [s]", "num"), ("Worst at [s]", "num"), ("Peak", "num"), ("Allowed", "num"), "Unit",
+                     ("Utilisation [%]", "num")], header=True)
+    seg_body = "".join(_row([escape(joint_label(d["joint"])), escape(limit_label(d["limit"])),
+                             (escape(d["severity"].words), f"verdict {d['severity'].css_class}"), (str(d["count"]), "num"),
+                             (num(d["first_s"], ".1f"), "num"), (num(d["last_s"], ".1f"), "num"), (num(d["time_s"], ".3g"), "num"),
+                             (num(d["worst"].t_start_s, ".3f"), "num"), (num(d["worst"].peak), "num"),
+                             (num(d["worst"].allowed), "num"), escape(d["worst"].unit), (pct(d["worst"].utilisation), "num")])
+                       for d in grouped_segments(result))
     margin_head = _row(["Joint", "Limit", ("Reviewed [%]", "num"), ("Measured [%]", "num"), ("Share of the margin used [%]", "num")],
                        header=True)
     margin_body = "".join(_row([escape(joint_label(m.joint)), escape(limit_label(m.limit)),
@@ -149,7 +152,8 @@ def render_after_test(result, corrected=None) -> str:
                                 (f"{100 * m.share_used:+.0f}" if m.share_used is not None else "&ndash;", "num")])
                           for m in result.margin)
     measured = (f'<section id="measured"><h2>2. Every measured sample against the modelled limits</h2>'
-                + (f'<table class="segments">{seg_head}{seg_body}</table>' if result.segments else
+                + ("<p>Measured runs over or near a limit, grouped by joint and limit (after-test.json lists every run):</p>"
+                   f'<table class="segments">{seg_head}{seg_body}</table>' if result.segments else
                    "<p>No measured sample is near or beyond a modelled limit.</p>")
                 + "<p>The share of the margin used is (measured - reviewed) / (100 % - reviewed): 0 when the hardware did "
                   "what the review predicted, 100 % when it reached the limit the review left room for.</p>"
@@ -172,7 +176,9 @@ def render_after_test(result, corrected=None) -> str:
     tracking = (f'<section id="tracking"><h2>3. Tracking, current and temperature</h2>'
                 + figure(plots.embed(tracking_figure(result)),
                          "Reviewed targets and predicted current (wide light band) against the measured values (dark dashes) over "
-                         f"{WINDOW_PERIODS:g} plan periods; dark-red lines: the drive's peak current.")
+                         f"{WINDOW_PERIODS:g} plan periods; dark-red lines: the drive's peak current. Without a sync column a delay "
+                         "common to every joint cannot be told from a later start: the alignment takes it in, and the "
+                         "tracking lag column shows each joint's delay beyond it.")
                 + f'<table class="tracking">{tr_head}{tr_body}</table><table class="currents">{cu_head}{cu_body}</table>'
                 + (figure(plots.embed(temperature_figure(result)),
                           "Winding temperature over the whole log: the robot file's model driven by the predicted current (wide "
@@ -214,6 +220,7 @@ def render_after_test(result, corrected=None) -> str:
 
 
 def write_report(result, corrected, path, *, force: bool = False) -> Path:
+    """Render the post-test report and write it atomically to ``path``."""
     from legbridge.robots.files import write_atomic
 
     return write_atomic(path, render_after_test(result, corrected), force=force)

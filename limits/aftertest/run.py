@@ -141,6 +141,7 @@ class AfterTestRun:
 
 
 def corrected_name(robot_path: str) -> str:
+    """File name of the corrected robot file: ``<robot file stem>-identified.toml``."""
     stem = Path(robot_path).stem
     return f"{stem}-identified.toml"
 
