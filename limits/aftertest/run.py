@@ -152,6 +152,7 @@ def run_after_test(review_folder, log_path, out_dir, *, mapping=None, case=None,
     the corrected robot file into ``out_dir`` (nothing is written when an input is refused)."""
     from legbridge.limits.checks.case import check_case
     from legbridge.mapping.pipeline import prepare
+    from legbridge.robots import load_robot
     from legbridge.robots.files import check_output_folder, write_json
     from legbridge.robots.version import tool_version
 
@@ -167,14 +168,14 @@ def run_after_test(review_folder, log_path, out_dir, *, mapping=None, case=None,
     names = OUTPUT_NAMES + (corrected_name(inputs.robot_path),)
     ins = [inputs.review_path, inputs.plan_path, inputs.robot_path, log_path] + ([mapping] if mapping else [])
     out = check_output_folder(out_dir, names, inputs=ins, force=force)
+    say("reading the log")  # first: a bad log is refused before the (slower) translation
+    robot_ = load_robot(inputs.robot_path)
+    log = read_log(log_path, mapping, joints=tuple(robot_.limb_joint_names), legs=tuple(robot_.legs) or ("leg",))
     say(f"translating and checking case {name} at {inputs.settings.rate_hz:g} Hz, as reviewed")
-    prepared = prepare(inputs.plan_path, inputs.robot_path, rate_hz=inputs.settings.rate_hz, cases=[name],
+    prepared = prepare(inputs.plan_path, robot_, rate_hz=inputs.settings.rate_hz, cases=[name],
                        gait=inputs.settings.gait)
     traj = prepared.trajectories[0]
     reviewed = check_case(traj, prepared.robot, replace(inputs.settings, run_qps=False))
-    say("reading the log")
-    legs = tuple(prepared.robot.legs) or ("leg",)
-    log = read_log(log_path, mapping, joints=tuple(traj.joint_names), legs=legs)
     result = compare_log(log, reviewed, prepared.robot, inputs.settings, review_path=inputs.review_path,
                          review_sha256=inputs.review_sha256, plan_path=inputs.plan_path, plan_sha256=inputs.plan_sha256,
                          say=say)

@@ -128,3 +128,43 @@ def test_refusals_name_what_is_wrong_and_write_nothing(review_dir, tmp_path, cap
     err = _refused(["after-test", str(review_dir), str(LOG), "--log-map", str(MAP), "--case", "flat", "-o", str(out)],
                    capsys, out)
     assert "--case" in err and "nominal" in err
+
+
+@pytest.fixture(scope="module")
+def one_leg_review(tmp_path_factory):
+    """A review of the hopping plan on the one-leg robot, whose joints (hip, knee) and leg ('leg') are
+    those the log corpus is written for."""
+    d = tmp_path_factory.mktemp("one-leg")
+    shutil.copy(ROOT / "examples" / "demo-hop-plan.json", d / "plan.json")
+    main(["check", str(d / "plan.json"), "--robot", "lab-biped-leg", "--rate", "200", "-o", str(d / "review.json"),
+          "--quiet"])
+    assert (d / "review.json").is_file()
+    return d
+
+
+def test_every_bad_log_of_the_corpus_exits_2_through_the_command(one_leg_review, tmp_path, capsys):
+    import sys
+
+    sys.path.insert(0, str(Path(__file__).parent))
+    import log_corpus
+
+    for k, case in enumerate(log_corpus.cases()):
+        folder = tmp_path / f"c{k}"
+        folder.mkdir()
+        for name, data in case.files.items():
+            if data is None:
+                (folder / name).mkdir()
+            else:
+                (folder / name).write_bytes(data)
+        before = {p.name: (p.read_bytes() if p.is_file() else None) for p in folder.iterdir()}
+        out = folder / "out"
+        argv = ["after-test", str(one_leg_review), str(folder / case.log), "-o", str(out), "--quiet"]
+        if case.mapping:
+            argv += ["--log-map", str(folder / case.mapping)]
+        code = main(argv)
+        err = capsys.readouterr().err.strip()
+        assert code == 2, (case.name, err)
+        assert len(err.splitlines()) == 1 and "Traceback" not in err, (case.name, err)
+        assert (case.log if case.blame == "log" else case.mapping) in err, (case.name, err)
+        assert not out.exists(), case.name
+        assert {p.name: (p.read_bytes() if p.is_file() else None) for p in folder.iterdir() if p != out} == before
