@@ -279,3 +279,17 @@ def escape_text(s: str) -> str:
     from html import escape
 
     return escape(s)
+
+
+def test_print_rules_keep_tables_whole_and_headings_with_what_follows(reviewed):
+    # CSS Paged Media / CSS Fragmentation (W3C): break-after: avoid keeps a heading with what follows,
+    # thead as table-header-group repeats on each printed page; a sideways-scrolling table is for
+    # screens only (printed, it would be cut at the page edge)
+    _, _, html, _ = reviewed
+    css = html[html.index("<style>"):html.index("</style>")]
+    printed = css[css.index("@media print"):]
+    assert "break-after: avoid" in printed and "table-header-group" in printed
+    assert "figure" in printed.split("break-inside")[0].rsplit("}", 1)[-1]
+    assert "@media screen and (max-width: 900px)" in css and "@media (max-width" not in css
+    # the first case does not start a page of its own below the section heading (no stranded heading)
+    assert "article.case + article.case" in printed
