@@ -25,6 +25,19 @@ from legbridge.limits.verdict import joint_label, limit_label, utilisation_text
 SCHEMA = "legbridge.after-test/1"
 
 
+PARAMETER_LABELS = {
+    "torque_constant_nm_per_a": "torque constant", "gearbox_efficiency": "gearbox efficiency",
+    "friction_coulomb_nm": "Coulomb friction", "friction_viscous_nms_per_rad": "viscous friction",
+    "winding_resistance_k_per_w": "winding thermal resistance", "winding_time_constant_s": "winding time constant",
+    "housing_resistance_k_per_w": "housing thermal resistance", "housing_time_constant_s": "housing time constant",
+}
+
+
+def parameter_label(name: str) -> str:
+    """What people read for an identified parameter ('torque constant'); JSON keeps the code name."""
+    return PARAMETER_LABELS.get(name, name.replace("_", " "))
+
+
 def estimates(result):
     """(joint, Estimate) of every identified or held parameter, drive first."""
     out = []
@@ -142,14 +155,14 @@ def after_test_lines(result, corrected=None, *, paths=None, rereview: str = "") 
                "No identified parameter differs from the robot file beyond its 95 % interval and by "
                f"{100 * MIN_RELATIVE_CHANGE:g} % or more.")
     for j, e in diff:
-        out.append(f"  {j} {e.name}: {e.value:.4g} {e.unit} [{e.ci_low:.4g}, {e.ci_high:.4g}], file {e.file_value:.4g} "
+        out.append(f"  {j} / {parameter_label(e.name)}: {e.value:.4g} {e.unit} [{e.ci_low:.4g}, {e.ci_high:.4g}], file {e.file_value:.4g} "
                    f"({100 * e.relative_change:+.1f} %)")
     out.extend(f"  Note: {n}" for n in result.notes if "not identified" in n)
     out.append("")
     for label, p in (paths or {}).items():
-        out.append(f"{label + ':':<16}{p}")
+        out.append(f"{label + ':':<17}{p}")
     if corrected is not None:
-        out.append(f"{'Corrected robot:':<16}{corrected.path} (identified values; the original is unchanged)")
+        out.append(f"{'Corrected robot:':<17}{corrected.path} (identified values; the original is unchanged)")
     if rereview:
         out.append(f"Review the plan again with it: {rereview}")
     out.append("")

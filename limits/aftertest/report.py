@@ -15,7 +15,7 @@ from legbridge.limits.review.report import plots
 from legbridge.limits.review.report.sections import _row, figure, num, pct
 from legbridge.limits.verdict import joint_label, limit_label
 
-from .document import MIN_RELATIVE_CHANGE, differs, estimates, grouped_segments
+from .document import MIN_RELATIVE_CHANGE, differs, estimates, grouped_segments, parameter_label
 
 WINDOW_PERIODS = 2.0   # the tracking and current figures show this many plan periods
 
@@ -188,7 +188,7 @@ def render_after_test(result, corrected=None) -> str:
                 + "</section>")
     id_head = _row(["Joint", "Parameter", ("Identified", "num"), ("95 % interval", "num"), ("Robot file", "num"),
                     ("Change [%]", "num"), "Differs from the file", "How"], header=True)
-    id_body = "".join(_row([escape(j), escape(f"{e.name} [{e.unit}]"), (num(e.value), "num"),
+    id_body = "".join(_row([escape(j), escape(f"{parameter_label(e.name)} [{e.unit}]"), (num(e.value), "num"),
                             (f"{num(e.ci_low)} to {num(e.ci_high)}" if e.identified else "held", "num"),
                             (num(e.file_value) if e.file_value is not None else "&ndash;", "num"),
                             (f"{100 * e.relative_change:+.1f}" if e.relative_change is not None else "&ndash;", "num"),
