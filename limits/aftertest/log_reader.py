@@ -283,27 +283,9 @@ def _npz_table(data: bytes, path: str) -> _Table:
 
 
 def _mat_table(data: bytes, path: str) -> _Table:
-    import scipy.io
+    from legbridge.mapping.readers.mat_reader import load_mat
 
-    try:  # declared sizes first, as the plan reader does
-        for name, shape, _ in scipy.io.whosmat(io.BytesIO(data)):
-            n = 1
-            for d in shape:
-                n *= int(d)
-            if n > MAX_ELEMENTS:
-                raise LogFormatError("array too large for a log", path=path, key=name,
-                                     expected=f"at most {MAX_ELEMENTS:,} elements", found=Described(f"shape {tuple(shape)}"))
-    except LogFormatError:
-        raise
-    except Exception:  # damaged or another version: loadmat below says which
-        pass
-    try:
-        doc = scipy.io.loadmat(io.BytesIO(data), simplify_cells=True)
-    except NotImplementedError as exc:  # v7.3 (HDF5) files
-        raise LogFormatError("unsupported MAT-file version", path=path, expected="a MAT-file of version 7 or older",
-                             found=Described("version 7.3 (HDF5)"), hint="Save with the '-v7' option") from exc
-    except Exception as exc:  # scipy raises ValueError, TypeError, OSError... on damaged files
-        raise LogFormatError(f"not a readable MAT-file ({type(exc).__name__}: {exc})", path=path) from exc
+    doc = load_mat(data, path, LogFormatError, "a log")
     doc = {k: v for k, v in doc.items() if not k.startswith("__")}
     if len(doc) == 1 and isinstance(next(iter(doc.values())), dict):
         name, fields = next(iter(doc.items()))

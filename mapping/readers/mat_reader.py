@@ -85,30 +85,37 @@ MAX_ELEMENTS = 100_000_000
 """A MAT-file variable declaring more elements than this is refused before it is loaded."""
 
 
-def read_mat_raw(path: str) -> RawPlan:
-    """Read and check a MAT-file plan; file units (layout in the module docstring)."""
+def load_mat(data: bytes, path: str, error=PlanFormatError, what: str = "a plan") -> dict:
+    """A MAT-file's variables (scipy.io.loadmat, cells simplified), each declared size checked against
+    MAX_ELEMENTS before anything is loaded; damaged files and version 7.3 (HDF5) are refused with
+    ``error`` (the reader's own LegbridgeError class)."""
     import scipy.io
 
-    data, sha = read_file_bytes(path)
     try:  # the declared sizes first: a header may claim more than the machine holds
         for name, shape, _ in scipy.io.whosmat(io.BytesIO(data)):
             n = 1
             for d in shape:
                 n *= int(d)
             if n > MAX_ELEMENTS:
-                raise PlanFormatError("array too large for a plan", path=path, key=name,
-                                      expected=f"at most {MAX_ELEMENTS:,} elements", found=Described(f"shape {tuple(shape)}"))
-    except PlanFormatError:
+                raise error(f"array too large for {what}", path=path, key=name,
+                            expected=f"at most {MAX_ELEMENTS:,} elements", found=Described(f"shape {tuple(shape)}"))
+    except error:
         raise
     except Exception:  # damaged or another version: loadmat below says which
         pass
     try:
-        doc = scipy.io.loadmat(io.BytesIO(data), simplify_cells=True)
+        return scipy.io.loadmat(io.BytesIO(data), simplify_cells=True)
     except NotImplementedError as exc:  # v7.3 (HDF5) files
-        raise PlanFormatError(f"unsupported MAT-file version ({exc})", path=path,
-                              hint="Save with save(..., '-v7') or older") from exc
+        raise error("unsupported MAT-file version", path=path, expected="a MAT-file of version 7 or older",
+                    found=Described("version 7.3 (HDF5)"), hint="save it with the '-v7' option") from exc
     except Exception as exc:  # scipy raises ValueError, TypeError, OSError... on damaged files
-        raise PlanFormatError(f"not a readable MAT-file ({type(exc).__name__}: {exc})", path=path) from exc
+        raise error(f"not a readable MAT-file ({type(exc).__name__}: {exc})", path=path) from exc
+
+
+def read_mat_raw(path: str) -> RawPlan:
+    """Read and check a MAT-file plan; file units (layout in the module docstring)."""
+    data, sha = read_file_bytes(path)
+    doc = load_mat(data, path)
     doc = {k: v for k, v in doc.items() if not k.startswith("__")}
     for k in doc:
         if k not in TOP_VARIABLES:
