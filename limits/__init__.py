@@ -15,6 +15,8 @@ Public API (loaded on first use, so the command line starts quickly):
     case_joints_figure(case_review, robot), case_force_figure(case_review, robot),
     torque_speed_figure(case_reviews, robot, joint), thermal_figure(case_reviews, robot, duration_s),
     figure_keys(review), plot_for(review, key)  -> matplotlib Figures  (limits.review.report.plots)
+    run_after_test(review_dir, log, out_dir, mapping=None) -> AfterTestRun   (limits.aftertest)
+    read_log, align_log, compare_log, identify_drive, identify_thermal, write_corrected_robot
 """
 
 from legbridge.robots.lazy import lazy_exports
@@ -32,6 +34,9 @@ _WHERE = {
     "case_joints_figure": "review.report.plots", "case_force_figure": "review.report.plots",
     "torque_speed_figure": "review.report.plots", "thermal_figure": "review.report.plots",
     "figure_keys": "review.report.plots", "plot_for": "review.report.plots",
+    "run_after_test": "aftertest.run", "compare_log": "aftertest.compare", "read_log": "aftertest.log_reader",
+    "align_log": "aftertest.align", "identify_drive": "aftertest.identify", "identify_thermal": "aftertest.identify",
+    "write_corrected_robot": "aftertest.robot_file",
 }
 
 __all__ = sorted(_WHERE)
