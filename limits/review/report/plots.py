@@ -37,6 +37,8 @@ FILL = {SEVERITY_EXCEEDS: FILL_EXCEEDS, SEVERITY_NEAR: FILL_NEAR}
 CASE_COLOURS = (PLAN, ALT, INK, "#4f7d4f", "#7a3f8a", "#5c6670")  # one per case, with its own line style
 LINESTYLES = ("-", "--", "-.", ":", (0, (5, 1, 1, 1, 1, 1)), (0, (1, 2)))
 MARKERS = ("o", "s", "^", "D", "v", "x", "+", "*")
+PANEL_WIDTH_IN = 2.15  # one joint column [in]: a four-joint figure is about 9 in wide, so at print width
+                       # (about 7 in) its 8 pt labels stay above 6 pt
 DPI = 140  # sharp enough for print at the figure sizes used; drawing, not rasterising, sets the time
 
 # Rows of the per-case joint figure: (key, label with unit)
@@ -318,7 +320,7 @@ def case_joints_figure(review, robot) -> MplFigure:
     t = np.asarray(traj.time_s, dtype=float)
     names = tuple(traj.joint_names)
     nj = len(names)
-    fig = _new_figure(2.9 * nj + 0.6, 8.8, bottom=1.05, top=0.75, hspace=0.3)
+    fig = _new_figure(PANEL_WIDTH_IN * nj + 0.7, 8.4, bottom=1.15, top=0.75, hspace=0.32, wspace=0.36)
     axes = fig.subplots(len(ROWS), nj, sharex=True, squeeze=False)
     dt = _dt(t)
     severities: set[str] = set()
@@ -497,7 +499,7 @@ def torque_speed_figure(reviews, robot, joint_name: str) -> MplFigure:
         ax.plot(sp, tq, color=LIMIT, linewidth=1.3)
         for s in (1, -1):  # peak torque by power direction: motoring quadrants I and III, back-driven II and IV
             ax.plot([0, s * xlim], [s * tmax, s * tmax], color=LIMIT, linewidth=0.9, linestyle="--")
-            ax.plot([0, -s * xlim], [s * tback, s * tback], color=LIMIT, linewidth=0.9, linestyle=(0, (1, 1.5)))
+            ax.plot([0, -s * xlim], [s * tback, s * tback], color=LIMIT, linewidth=0.9, linestyle="-.")
             ax.axhline(s * tcont, color=INK, linewidth=0.8, linestyle=":")
         for other, (x, y) in enumerate(samples):
             if other != k:
@@ -505,6 +507,17 @@ def torque_speed_figure(reviews, robot, joint_name: str) -> MplFigure:
         x, y = samples[k]
         ax.plot(x, y, linestyle="none", marker=MARKERS[k % len(MARKERS)], markersize=2.8, markerfacecolor="none",
                 markeredgewidth=0.7, color=PLAN, zorder=2)
+        tr = next((t for t in shown[k].traces if t.limit == "peak_torque" and t.joint == joint_name), None)
+        if tr is not None and np.isfinite(np.asarray(tr.utilisation, dtype=float)).any():  # the worst sample, named
+            from legbridge.limits.verdict import utilisation_text
+
+            jj = list(shown[k].trajectory.joint_names).index(joint_name)
+            i = int(np.nanargmax(np.asarray(tr.utilisation, dtype=float)))
+            x0, y0 = float(shown[k].trajectory.qd[i, jj]), float(shown[k].trajectory.tau[i, jj])
+            ax.plot([x0], [y0], linestyle="none", marker="*", markersize=9, color=LIMIT, markeredgecolor=INK, zorder=4)
+            ax.annotate(f"peak torque {utilisation_text(float(tr.utilisation[i]))}", xy=(x0, y0), xytext=(4, 4),
+                        textcoords="offset points", fontsize=6.8, color=INK,
+                        bbox=dict(facecolor="white", edgecolor="none", alpha=0.8, pad=0.6))
         ax.set_title(f"case {shown[k].case}", fontsize=8.5)
         ax.set_xlim(-xlim, xlim)
         ax.set_ylim(-ylim, ylim)
@@ -526,10 +539,12 @@ def torque_speed_figure(reviews, robot, joint_name: str) -> MplFigure:
     handles = [
         Line2D([], [], color=LIMIT, linewidth=1.3, label="voltage and current envelope"),
         Line2D([], [], color=LIMIT, linewidth=0.9, linestyle="--", label=f"peak torque, motor drives: {tmax:.4g} N m"),
-        Line2D([], [], color=LIMIT, linewidth=0.9, linestyle=(0, (1, 1.5)), label=f"peak torque, back-driven: {tback:.4g} N m"),
+        Line2D([], [], color=LIMIT, linewidth=0.9, linestyle="-.", label=f"peak torque, back-driven: {tback:.4g} N m"),
         Line2D([], [], color=INK, linewidth=0.8, linestyle=":", label=f"continuous torque: {tcont:.4g} N m"),
         Line2D([], [], color=PLAN, linestyle="none", marker="o", markerfacecolor="none", markersize=4, label="this case"),
         Line2D([], [], color="#b9bfc5", linestyle="none", marker=".", markersize=5, label="the other cases"),
+        Line2D([], [], color=LIMIT, markeredgecolor=INK, linestyle="none", marker="*", markersize=8,
+               label="this case's highest peak-torque utilisation"),
     ]
     fig.legend(handles=handles, loc="lower center", bbox_to_anchor=(0.5, 0.0), ncols=3, fontsize=7.2, frameon=False)
     fig.suptitle(f"{joint_name}: torque-speed plane, one panel per case", fontsize=10, color=INK)
@@ -545,7 +560,7 @@ def thermal_figure(reviews, robot, duration_s: float | None) -> MplFigure:
     """
     names = robot.limb_joint_names
     nj = len(names)
-    fig = _new_figure(2.9 * nj + 0.6, 3.4, bottom=1.0, top=0.55)
+    fig = _new_figure(PANEL_WIDTH_IN * nj + 0.7, 3.4, bottom=1.0, top=0.55, wspace=0.32)
     axes = fig.subplots(1, nj, squeeze=False)[0]
     notes: list[str] = []
     for j, name in enumerate(names):
