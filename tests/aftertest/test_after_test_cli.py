@@ -168,3 +168,26 @@ def test_every_bad_log_of_the_corpus_exits_2_through_the_command(one_leg_review,
         assert (case.log if case.blame == "log" else case.mapping) in err, (case.name, err)
         assert not out.exists(), case.name
         assert {p.name: (p.read_bytes() if p.is_file() else None) for p in folder.iterdir() if p != out} == before
+
+
+def test_the_post_test_report_opens_with_the_answer_and_carries_the_caution_and_hashes(after):
+    import re
+    from html import unescape
+
+    from legbridge.limits.cautions import CAUTIONS
+
+    _, out = after
+    html = (out / "after-test.html").read_text()
+    doc = json.loads((out / "after-test.json").read_text())
+    ids = re.findall(r'<section id="([^"]+)"', html)
+    assert ids == ["answer", "caution-and-identity", "measured", "tracking", "identified"]
+    text = unescape(re.sub(r"<[^>]+>", " ", html))
+    text = " ".join(text.split())
+    for para in CAUTIONS:
+        assert " ".join(para.split()) in text
+    for sha in (doc["log"]["sha256"], doc["plan_sha256"], doc["robot_sha256"], doc["review_sha256"]):
+        assert sha in html
+    assert not re.search(r"\bsafe\b", text, re.I)
+    assert html.count('src="data:image/png;base64,') == 2
+    assert not re.search(r'(src|href)="(https?:|//)', html)  # self-contained: nothing fetched from a network
+    assert "Measured: exceeds a modelled limit" in text
