@@ -194,26 +194,13 @@ def thermal_step_maps(th, resistance_ohm: float, current, dt_s: float) -> tuple[
 def thermal_simulate(th, resistance_ohm: float, current, dt_s: float, index=None) -> np.ndarray:
     """Temperatures [degC] (len(index) + 1, d) from ambient at times 0, dt, ... for the current
     sequence ``current[index]`` (``index`` None: all of ``current``): the maps of the distinct
-    current values are computed once, then composed step by step."""
+    current values are computed once (scipy.linalg.expm of the augmented matrix), then composed by
+    the associative scan limits.checks.thermal.prefix_maps."""
+    from legbridge.limits.checks.thermal import prefix_maps
+
     m, v = thermal_step_maps(th, resistance_ohm, current, dt_s)
     index = np.arange(len(m)) if index is None else np.asarray(index)
-    d = m.shape[1]
-    out = np.zeros((index.size + 1, d))
-    if d == 1:
-        ms, vs = m[:, 0, 0].tolist(), v[:, 0].tolist()
-        x, col = 0.0, out[:, 0]
-        for k, i in enumerate(index.tolist()):
-            x = ms[i] * x + vs[i]
-            col[k + 1] = x
-    else:
-        m00, m01, m10, m11 = (m[:, a, b].tolist() for a, b in ((0, 0), (0, 1), (1, 0), (1, 1)))
-        v0, v1 = v[:, 0].tolist(), v[:, 1].tolist()
-        xw = xh = 0.0
-        rows = [(0.0, 0.0)]
-        for i in index.tolist():
-            xw, xh = m00[i] * xw + m01[i] * xh + v0[i], m10[i] * xw + m11[i] * xh + v1[i]
-            rows.append((xw, xh))
-        out[:] = rows
+    _, out = prefix_maps(m[index], v[index])  # x[k] from x[0] = 0 (ambient): the composed maps, no loop
     return out + th.ambient_temp_c
 
 
