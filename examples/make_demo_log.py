@@ -8,9 +8,9 @@ finds against what was put in.
 What is simulated, on the controller's 1 kHz grid (log time k ms, k = 0, 1, ...):
 
 * the shipped demo plan examples/demo-run-plan.json, case ``nominal``, translated for lab-biped at
-  1000 Hz (legbridge.mapping.pipeline.prepare): n = 2001 samples, repeated with the period the
-  review's thermal model uses (limits/checks/thermal.py, ``ThermalResult.period_s`` = n / rate =
-  2.001 s: each repetition restarts from the case's first sample, one 1 ms step after its last);
+  1000 Hz (legbridge.mapping.pipeline.prepare): n = 2001 samples, repeated with the case's duration
+  as period (JointTrajectory.repetition_period_s = 2.0 s, the same at every rate: the last sample's
+  time is where the next repetition starts with the case's first sample);
 * before it a standstill of STANDSTILL_S at the case's first sample (its position and joint torque,
   speed and acceleration zero), so the log starts before the motion; plan time 0 is log time
   STANDSTILL_S; the test runs TEST_S after it and the logger stops then;
@@ -217,7 +217,8 @@ def simulate(rng: np.random.Generator):
     traj = prepare(PLAN, robot, rate_hz=SIM_RATE_HZ, cases=[CASE]).trajectories[0]
     n = traj.n_samples
     dt = 1.0 / SIM_RATE_HZ
-    period = n * dt                                                  # as limits.checks.thermal.simulate
+    period = traj.repetition_period_s                                # n - 1 steps: the last sample starts the next
+    n_rep = int(round(period * SIM_RATE_HZ))
     start_steps = int(round(STANDSTILL_S * SIM_RATE_HZ))
     lag_steps = int(round(LAG_S * SIM_RATE_HZ))
     end_s = STANDSTILL_S + TEST_S
@@ -233,7 +234,7 @@ def simulate(rng: np.random.Generator):
     steps = int(np.ceil(t[-1] * SIM_RATE_HZ)) + 2
     k = np.arange(steps)
     s = k - start_steps - lag_steps
-    idx = np.where(s < 0, -1, np.mod(s, n))
+    idx = np.where(s < 0, -1, np.mod(s, n_rep))
 
     def on_grid(values, still):                                     # trajectory samples, standstill appended
         return np.concatenate((np.asarray(values, dtype=float), [still]))[idx]
@@ -315,7 +316,7 @@ def header_lines(facts) -> list[str]:
         f"plan: {PLAN_LABEL} sha256={_sha256(PLAN)}",
         f"robot: {ROBOT_LABEL} sha256={_sha256(Path(facts['robot_path']))}",
         f"case: {CASE}, translated at {SIM_RATE_HZ:g} Hz ({facts['n']} samples), repeated with period "
-        f"{facts['period_s']:.6g} s (as the review's thermal model); each repetition restarts at the case's first sample",
+        f"{facts['period_s']:.6g} s (the case's duration); each repetition restarts at the case's first sample",
         f"timeline: logger starts at t_ms = 0; standstill at the case's first sample (speeds zero) until plan time 0 "
         f"at t_ms = {1e3 * STANDSTILL_S:g}; then {TEST_S:g} s of the case repeated; the log ends at t_ms = "
         f"{1e3 * (STANDSTILL_S + TEST_S):g}",

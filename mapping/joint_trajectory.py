@@ -103,6 +103,13 @@ class JointTrajectory:
     foot_height_m: np.ndarray | None = None
 
     @property
+    def repetition_period_s(self) -> float:
+        """How long one repetition lasts when the plan is repeated [s]: the last sample time minus the
+        first (the last sample is where the next repetition starts), the same at every export rate."""
+        t = np.asarray(self.time_s, dtype=float)
+        return float(t[-1] - t[0]) if t.size > 1 else 0.0
+
+    @property
     def n_samples(self) -> int:
         return int(self.time_s.shape[0])
 

@@ -4,7 +4,8 @@ against every modelled limit, the margin the hardware used, and what the robot f
 The reviewed targets are the review's own: the plan and robot named in its review.json are read again
 (their SHA-256 must match what was reviewed) and the case is translated and checked at the review's
 settings (mapping.pipeline.prepare, limits.checks.check_case). The log's clock is put on the plan's by
-align.align_log; the test repeats the case with its period T, so a log sample at time t belongs to plan
+align.align_log; the test repeats the case with its period T (JointTrajectory.repetition_period_s: the
+case's duration, whatever the review's rate), so a log sample at time t belongs to plan
 time (t - offset) mod T, and only samples at or after the offset (the motion had started) are compared.
 
 Predicted quantities at a log sample come from the reviewed trajectory at that plan time (linear
@@ -141,6 +142,8 @@ def periodic_at(traj_time_s: np.ndarray, values: np.ndarray, plan_time_s: np.nda
     interpolation; the period closes the curve back on its first sample). NaN plan times give NaN."""
     t = np.asarray(traj_time_s, dtype=float)
     v = np.asarray(values, dtype=float)
+    keep = t < t[0] + period_s - 1e-12  # a sample at the period's end is the next repetition's first
+    t, v = t[keep], v[keep]
     x = np.mod(np.asarray(plan_time_s, dtype=float), period_s)
     tt = np.concatenate([t, [t[0] + period_s]])
     vv = np.concatenate([v, v[:1]], axis=0)
@@ -345,7 +348,7 @@ def compare_log(log: HardwareLog, reviewed, robot, settings, *, review_path: str
     from .align import align_log, joint_lags
 
     traj = reviewed.trajectory
-    period = float(reviewed.thermal.period_s)
+    period = traj.repetition_period_s
     names = tuple(traj.joint_names)
     tt = np.asarray(traj.time_s, dtype=float)
     tg_time = tt[tt < tt[0] + period - 1e-12]

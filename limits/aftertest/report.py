@@ -23,7 +23,7 @@ WINDOW_PERIODS = 2.0   # the tracking and current figures show this many plan pe
 def _window(result) -> tuple[float, float]:
     """Log times [s] of the shown window: WINDOW_PERIODS periods ending at the worst measured finding's
     period, else starting at the motion's start."""
-    period = float(result.reviewed.thermal.period_s)
+    period = result.reviewed.trajectory.repetition_period_s
     t = result.log.time_s
     start = result.alignment.offset_s
     if result.segments:

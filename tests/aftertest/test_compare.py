@@ -38,7 +38,7 @@ def reviewed():
 def _log(tmp_path, reviewed, current_scale=1.0, seed=3):
     rv, robot, _ = reviewed
     traj = rv.trajectory
-    period = rv.thermal.period_s
+    period = traj.repetition_period_s
     rng = np.random.default_rng(seed)
     steps = 0.005 + rng.uniform(-5e-4, 5e-4, int((START_S + PERIODS * period) / 0.005))
     t = np.cumsum(steps)
@@ -80,3 +80,19 @@ def test_a_twelve_percent_weaker_motor_shows_in_the_gain_and_the_torque_constant
     knee = res.drive_fits["left_knee"].torque_constant_nm_per_a
     assert knee.value == pytest.approx(0.88 * 0.20, rel=0.02)
     assert not knee.within_ci(0.20)
+
+
+def test_the_result_does_not_depend_on_the_review_rate(tmp_path, reviewed):
+    # the same log compared with the case reviewed at 500 Hz and at 250 Hz: the period of the repeated
+    # case is its duration at both rates, so the alignment and the identified gain agree
+    rv, robot, settings = reviewed
+    log = _log(tmp_path, reviewed, current_scale=1 / 0.88)
+    slow = CheckSettings(rate_hz=250.0, run_qps=False)
+    prep = prepare(str(PLAN), resolve_robot("lab-biped"), rate_hz=250.0, cases=["nominal"])
+    rv_slow = check_case(prep.trajectories[0], prep.robot, slow)
+    assert rv_slow.trajectory.repetition_period_s == rv.trajectory.repetition_period_s
+    a, b = compare_log(log, rv, robot, settings), compare_log(log, rv_slow, prep.robot, slow)
+    assert a.alignment.offset_s == pytest.approx(b.alignment.offset_s, abs=2e-3)
+    for j in ("left_knee", "right_knee"):
+        ka, kb = a.drive_fits[j].torque_constant_nm_per_a.value, b.drive_fits[j].torque_constant_nm_per_a.value
+        assert ka == pytest.approx(kb, rel=0.01)

@@ -62,8 +62,9 @@ def _plan_time(log_time_s):
 
 
 def _at(traj, values, plan_time):
-    """Trajectory values at plan times, periodic with the review's period n / rate (linear between samples)."""
-    return np.interp(plan_time, traj.time_s, values, period=traj.n_samples / traj.rate_hz)
+    """Trajectory values at plan times, periodic with the case's duration (linear between samples; the
+    last sample is the next repetition's first)."""
+    return np.interp(plan_time, traj.time_s[:-1], values[:-1], period=traj.repetition_period_s)
 
 
 def _true_current(traj, prepared, j):
@@ -190,7 +191,7 @@ def test_logged_position_lags_the_target_by_the_planted_lag(log, traj):
 
 
 def test_cross_correlation_alignment_finds_the_planted_start(log, traj):
-    period = traj.n_samples / traj.rate_hz                    # limits.checks.thermal's period
+    period = traj.repetition_period_s                         # the case's duration
     a = align_log(log, target_time_s=traj.time_s, period_s=period,
                   target_position={j: traj.q[:, i] for i, j in enumerate(traj.joint_names)})
     assert a.method == "cross-correlation"
