@@ -18,9 +18,9 @@ def evaluate(ctx: CheckContext):
         return ()
     out = []
     n = ctx.traj.n_samples
+    th = ctx.thermal  # its RMS is over one repetition (the last sample starts the next one)
     for i, joint in ctx.joints():
-        cur = np.asarray(ctx.traj.current_a[:, i], dtype=float)
-        rms = float(np.sqrt(np.mean(cur * cur))) if n else 0.0
+        rms = float(th.rms_current_a[th.joint_names.index(joint.name)]) if n else 0.0
         cont = joint.actuator.continuous_current_a
         out.append(trace("continuous_current", joint.name, "A", np.full(n, rms), cont, ratio(np.full(n, rms), cont),
                          source="RMS over one plan period against the continuous current rating"))

@@ -235,7 +235,10 @@ def simulate(traj, robot, duration_s: float | None = None) -> ThermalResult:
     plan repeated for as long as the test runs (periodic steady state). See the module docstring."""
     n = traj.n_samples
     dt = 1.0 / float(traj.rate_hz)
-    period = n * dt
+    # one repetition is q = n - 1 steps: the last sample is where the next repetition starts, so the
+    # period is the plan's duration at every export rate (JointTrajectory.repetition_period_s)
+    q = n - 1 if n > 1 else max(n, 1)
+    period = q * dt
     finite = duration_s is not None
     m = int(math.ceil(float(duration_s) / dt - 1e-9)) if finite else None  # samples the test runs
     joints = [robot.joint(name) for name in traj.joint_names]
@@ -244,7 +247,7 @@ def simulate(traj, robot, duration_s: float | None = None) -> ThermalResult:
     tmax = np.array([j.actuator.thermal.max_winding_temp_c for j in joints])
     phase = np.empty((n, nj))
     ttl, runaway, steady_peak = {}, {}, {}
-    rms = np.sqrt(np.mean(np.square(np.asarray(traj.current_a, dtype=float)), axis=0)) if n else np.zeros(nj)
+    rms = np.sqrt(np.mean(np.square(np.asarray(traj.current_a, dtype=float)[:q]), axis=0)) if n else np.zeros(nj)
     periods = []
     for k, joint in enumerate(joints):  # one scan per joint (coefficients differ), no loop over samples
         act = joint.actuator
@@ -255,29 +258,30 @@ def simulate(traj, robot, duration_s: float | None = None) -> ThermalResult:
             periods.append(None)
             continue
         with np.errstate(over="ignore", invalid="ignore"):
-            per = _Period(*prefix_maps(*sample_maps(act.thermal, act.winding_resistance_ohm, cur, dt)))
+            per = _Period(*prefix_maps(*sample_maps(act.thermal, act.winding_resistance_ohm, cur[:q], dt)))
         periods.append(per)
         runaway[joint.name] = per.runaway
         limit_rise = tmax[k] - amb[k]
         steady = per.steady_rise()
         steady_peak[joint.name] = float(amb[k] + np.max(steady, initial=-np.inf))
         if finite:
-            # sample p of the plan last runs in repetition floor((m - 1 - p) / n), the hottest one
+            # sample p of the plan (time p dt in its repetition) last runs in repetition
+            # floor((m - 1 - p) / q), the hottest one; p = q is the next repetition's start
             p_idx = np.arange(n)
-            last = (m - 1 - p_idx) // n
+            last = (m - 1 - p_idx) // q
             rises = np.empty(n)
             for j in np.unique(last[last >= 0]):  # at most two repetitions: the last full one and the partial one
                 sel = last == j
-                rises[sel] = per.rise(per.start(int(j)))[:-1][sel]  # at each sample's own time
+                rises[sel] = per.rise(per.start(int(j)))[:n][sel]  # at each sample's own time
             if np.any(last < 0):  # samples the test never reaches: the temperature at its end
-                j_end, k_end = divmod(m, n)
+                j_end, k_end = divmod(m, q)
                 rises[last < 0] = per.rise(per.start(j_end))[k_end]
             phase[:, k] = amb[k] + rises
-            hit = _first_crossing(per, limit_rise, (m - 1) // n if m > 0 else -1)
+            hit = _first_crossing(per, limit_rise, (m - 1) // q if m > 0 else -1)
             t_hit = None if hit is None else hit[0] * period + hit[1] * dt
             ttl[joint.name] = t_hit if t_hit is not None and t_hit <= m * dt + 1e-12 else None
         else:
-            phase[:, k] = amb[k] + steady[:-1]
+            phase[:, k] = amb[k] + steady[:n]
             hit = _first_crossing(per, limit_rise, None)
             ttl[joint.name] = None if hit is None else hit[0] * period + hit[1] * dt
     time, temps = _display(periods, amb, period, dt, m, ttl)

@@ -63,19 +63,22 @@ def test_two_node_matches_solve_ivp_and_steady_state(alpha):
 
 
 def _constant_current(example_robot, make_traj, current, n=1000):
+    """The knee at standstill drawing ``current`` over a plan of n steps at 1 kHz (n + 1 samples: the
+    last is where the next repetition starts)."""
     act = example_robot.joints[1].actuator
     tau_knee = current * act.torque_constant_nm_per_a * act.gear_ratio * act.gearbox_efficiency  # motoring, standstill
-    traj = make_traj(example_robot, np.tile([0.2, -1.0], (n, 1)), tau=np.tile([0.0, tau_knee], (n, 1)))
+    traj = make_traj(example_robot, np.tile([0.2, -1.0], (n + 1, 1)), tau=np.tile([0.0, tau_knee], (n + 1, 1)))
     np.testing.assert_allclose(traj.current_a[:, 1], current)
     return traj, act
 
 
 def _square_wave(example_robot, make_traj, amps, on=300, n=1000):
-    """The knee at standstill drawing ``amps`` for the first ``on`` of ``n`` samples at 1 kHz, then 0."""
-    cur = np.where(np.arange(n) < on, amps, 0.0)
+    """The knee at standstill drawing ``amps`` for the first ``on`` of ``n`` steps at 1 kHz, then 0 (n + 1
+    samples: the last, where the next repetition starts, is the first again)."""
+    cur = np.where(np.arange(n + 1) % n < on, amps, 0.0)
     act = example_robot.joints[1].actuator
     tau_knee = cur * act.torque_constant_nm_per_a * act.gear_ratio * act.gearbox_efficiency
-    return make_traj(example_robot, np.tile([0.2, -1.0], (n, 1)), tau=np.column_stack([np.zeros(n), tau_knee]))
+    return make_traj(example_robot, np.tile([0.2, -1.0], (n + 1, 1)), tau=np.column_stack([np.zeros(n + 1), tau_knee]))
 
 
 def test_time_to_limit_with_a_resistance_that_rises_with_temperature(example_robot, make_traj):
@@ -93,8 +96,8 @@ def test_time_to_limit_with_a_resistance_that_rises_with_temperature(example_rob
     # the constant-alpha = 0 model would have been late: -tau ln(1 - 95 / (P0 R_th))
     assert -tau * math.log(1 - 95.0 / (p0 * r_th)) > 1.05 * t_hit
     assert th.time_to_limit_s["hip"] is None and not th.runaway["knee"]
-    # the hottest repetition of a finite test: its last sample is the temperature at t = 199.999 s
-    assert th.phase_temp_c[-1, 1] == pytest.approx(25 + theta_ss * (1 - math.exp(-199.999 * k / tau)), rel=1e-9)
+    # the hottest repetition of a finite test: the plan's sample at 0.999 s is last run at t = 199.999 s
+    assert th.phase_temp_c[-2, 1] == pytest.approx(25 + theta_ss * (1 - math.exp(-199.999 * k / tau)), rel=1e-9)
     assert th.duration_s == 200.0
     steady = simulate(traj, example_robot, None)  # default: repeated for as long as the test runs
     assert steady.periodic and steady.phase_temp_c[0, 1] == pytest.approx(25 + theta_ss, rel=1e-9)
