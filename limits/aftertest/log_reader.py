@@ -316,10 +316,10 @@ def _conventional_layout(columns, joints, legs, path: str, table: _Table) -> _La
         shown = ", ".join(repr(c) for c in unknown[:5]) + (f" and {len(unknown) - 5} more" if len(unknown) > 5 else "")
         raise LogFormatError(f"unknown column(s) {shown}", path=path, **table.where(unknown[0]),
                              expected=f"only the conventional names {accepted}", found=unknown[0],
-                             hint="To read other names or units, or to ignore columns, pass a mapping file")
+                             hint="To read other names or units, or to ignore columns, pass a mapping file (--log-map MAP.toml)")
     if TIME_COLUMN not in columns:
         raise LogFormatError(f"missing column '{TIME_COLUMN}'", path=path, **table.where(TIME_COLUMN), expected=f"a column '{TIME_COLUMN}' [s]",
-                             found=Described(f"columns {list(columns)}"), hint="Or pass a mapping file naming the time column")
+                             found=Described(f"columns {list(columns)}"), hint="Or pass a mapping file naming the time column (--log-map MAP.toml)")
     entries = []
     for c in columns:
         if c in known:

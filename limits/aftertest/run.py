@@ -79,16 +79,25 @@ def read_review_folder(folder, robot=None) -> ReviewedInputs:
         raise InputFileNotFound("the reviewed plan is not found unchanged", path=str(doc_path), key="plan_path",
                                 expected=f"a file with SHA-256 {doc['plan_sha256'][:12]}... at {recorded} or in the review folder",
                                 found=Described(", ".join(found) + " (other contents)" if found else "nothing"))
-    robot_src = robot or doc.get("robot_path") or doc["robot"]
-    try:
-        robot_path = Path(resolve_robot(str(robot_src)))
-    except LegbridgeError:
-        robot_path = Path(resolve_robot(str(doc["robot"])))
-    if not robot_path.is_file() or _sha256(robot_path) != doc["robot_sha256"]:
-        raise UsageError("the robot file differs from the one reviewed", path=str(robot_path), key="robot_sha256",
-                         expected=f"SHA-256 {str(doc['robot_sha256'])[:12]}...",
-                         found=Described(_sha256(robot_path)[:12] + "..." if robot_path.is_file() else "no file"),
-                         hint="review the plan again with this robot file, then compare the log with that review")
+    # the robot file: the one named on the command line, else where the review found it, else the
+    # bundled robot of that name (an installation moved); it must hash as reviewed
+    sources = [robot] if robot else [doc.get("robot_path"), doc["robot"]]
+    tried = []
+    robot_path = None
+    for src in (x for x in sources if x):
+        try:
+            p = Path(resolve_robot(str(src)))
+        except LegbridgeError:
+            continue
+        tried.append(p)
+        if p.is_file() and _sha256(p) == doc["robot_sha256"]:
+            robot_path = p
+            break
+    if robot_path is None:
+        shown = ", ".join(f"{p} ({_sha256(p)[:12]}...)" if p.is_file() else f"{p} (no file)" for p in tried) or "nothing"
+        raise UsageError("the reviewed robot file is not found unchanged", path=str(doc_path), key="robot_sha256",
+                         expected=f"a robot file with SHA-256 {str(doc['robot_sha256'])[:12]}...", found=Described(shown),
+                         hint="give it with --robot, or review the plan again with the robot file you have")
     allowed = {f.name for f in fields(CheckSettings)}
     settings = CheckSettings(**{k: v for k, v in doc["settings"].items() if k in allowed})
     cases = tuple(c.get("name", "") for c in doc["cases"] if isinstance(c, dict))
