@@ -191,3 +191,17 @@ def test_the_post_test_report_opens_with_the_answer_and_carries_the_caution_and_
     assert html.count('src="data:image/png;base64,') == 2
     assert not re.search(r'(src|href)="(https?:|//)', html)  # self-contained: nothing fetched from a network
     assert "Measured: exceeds a modelled limit" in text
+
+
+def test_a_moved_installation_finds_the_bundled_robot_by_its_hash(review_dir, tmp_path):
+    from legbridge.limits.aftertest.run import read_review_folder
+    from legbridge.robots.errors import LegbridgeError
+    from legbridge.robots.library import resolve_robot
+
+    doc = json.loads((review_dir / "review.json").read_text())
+    doc["robot_path"] = str(tmp_path / "gone" / "lab-biped.toml")  # where an uninstalled copy used to be
+    doc["plan_path"] = str(review_dir / "plan.json")
+    (tmp_path / "review.json").write_text(json.dumps(doc))
+    assert Path(read_review_folder(tmp_path).robot_path) == Path(resolve_robot("lab-biped"))
+    with pytest.raises(LegbridgeError, match="robot_sha256.*lab-biped-leg"):
+        read_review_folder(tmp_path, robot="lab-biped-leg")  # another robot: its hash differs
