@@ -151,7 +151,7 @@ def render_after_test(result, corrected=None) -> str:
                                 (pct(m.reviewed) if m.reviewed is not None else "&ndash;", "num"), (pct(m.measured), "num"),
                                 (f"{100 * m.share_used:+.0f}" if m.share_used is not None else "&ndash;", "num")])
                           for m in result.margin)
-    measured = (f'<section id="measured"><h2>2. Every measured sample against the modelled limits</h2>'
+    measured = ('<section id="measured"><h2>2. Every measured sample against the modelled limits</h2>'
                 + ("<p>Measured runs over or near a limit, grouped by joint and limit (after-test.json lists every run):</p>"
                    f'<table class="segments">{seg_head}{seg_body}</table>' if result.segments else
                    "<p>No measured sample is near or beyond a modelled limit.</p>")
@@ -173,7 +173,7 @@ def render_after_test(result, corrected=None) -> str:
     te_body = "".join(_row([escape(x.joint), (num(x.measured_peak_c), "num"), (num(x.predicted_peak_c), "num"),
                             (num(x.measured_end_c), "num"), (num(x.predicted_end_c), "num"), (num(x.limit_c), "num")])
                       for x in result.temperatures)
-    tracking = (f'<section id="tracking"><h2>3. Tracking, current and temperature</h2>'
+    tracking = ('<section id="tracking"><h2>3. Tracking, current and temperature</h2>'
                 + figure(plots.embed(tracking_figure(result)),
                          "Reviewed targets and predicted current (wide light band) against the measured values (dark dashes) over "
                          f"{WINDOW_PERIODS:g} plan periods; dark-red lines: the drive's peak current. Without a sync column a delay "

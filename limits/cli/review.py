@@ -47,7 +47,6 @@ def register(sub) -> None:
 def run(args: argparse.Namespace) -> int:
     """Run ``legbridge review``; returns the exit status."""
     from legbridge.limits.review.review import SWEEP_AUTO
-    from legbridge.limits.review.run import run_demo_review, run_review
     from legbridge.limits.review.text import review_lines
 
     if args.demo and (args.plan or args.robot):

@@ -189,7 +189,7 @@ def _figure_of(review, key, figs):
 
 def cases(review, figs=None) -> str:
     """Section 3: per case, the joint figure and the ground-force figure."""
-    robot, settings = review.robot, review.settings
+    robot = review.robot
     parts = ['<section id="cases"><h2>3. Cases over time</h2>']
     for r in review.cases:
         fj = _figure_of(review, ("joints", r.case), figs)
@@ -245,7 +245,7 @@ def cases(review, figs=None) -> str:
 
 def torque_speed(review, figs=None) -> str:
     """Section 4: per joint, the torque-speed plane with the envelope and every case."""
-    reviews, robot = review.cases, review.robot
+    robot = review.robot
     from legbridge.robots.actuator_limits import back_driven_joint_torque_nm, max_joint_speed, max_joint_torque
 
     parts = ['<section id="torque-speed"><h2>4. Torque-speed plane per joint</h2>']
@@ -271,7 +271,7 @@ def torque_speed(review, figs=None) -> str:
 
 def thermal(review, figs=None) -> str:
     """Section 5: winding temperature over the test duration against its limit."""
-    reviews, robot, settings = review.cases, review.robot, review.settings
+    reviews, robot = review.cases, review.robot
     f = _figure_of(review, ("thermal", ""), figs)
     head = _row(["Case"] + [(f"{escape(j)}: time to limit [s]", "num") for j in robot.limb_joint_names], header=True)
     body = []
