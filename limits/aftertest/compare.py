@@ -17,9 +17,11 @@ present, is used instead.
 
 Measured limits (each a LimitTrace over the log's samples, judged with the review's margin): joint range
 (measured angle), joint speed (measured speed), peak current (measured current), peak torque (a logged
-torque only), voltage (R_hot I + Ke N qd from the measured current and speed), winding temperature
-(measured rise above ambient against the limit's) and continuous current (RMS of the measured current
-over the last plan period before each sample). Share of the margin used, per joint and limit:
+torque only), voltage (R_hot I + Ke N qd from the measured current and speed, against the drive voltage
+scaled by the measured bus voltage when logged), winding temperature (measured rise above ambient
+against the limit's), continuous current (RMS of the measured current over the last plan period before
+each sample), and, for a logged ground force, unilateral contact and the friction cone in the leg's
+logged stance (limits.checks.ground.ground_utilisation). Share of the margin used, per joint and limit:
 (u_measured - u_reviewed) / (1 - u_reviewed): 0 when the hardware did what the review predicted, 100 %
 when it reached the limit the review left room for, negative when it stayed below the prediction.
 """
@@ -243,7 +245,8 @@ def drive_fit_at_best_lag(traj, j: int, act, rel: np.ndarray, period: float, mea
     return fit(float(best.x)), float(best.x)
 
 
-def measured_traces(log: HardwareLog, robot, joints, compared: np.ndarray, period_s: float) -> tuple:
+def measured_traces(log: HardwareLog, robot, joints, compared: np.ndarray, period_s: float, *, legs=(),
+                    friction: float | None = None) -> tuple:
     """Every modelled limit a log quantity can be held against, as LimitTraces over the log samples
     (samples before the motion's start carry NaN value and utilisation 0)."""
     from legbridge.limits.checks.base import ratio, trace
@@ -283,9 +286,12 @@ def measured_traces(log: HardwareLog, robot, joints, compared: np.ndarray, perio
                              source="RMS of the measured current over the last plan period"))
             if qd is not None:
                 v = hot_winding_resistance_ohm(act) * cur + act.back_emf_v_s_per_rad * act.gear_ratio * qd
-                out.append(trace("voltage", name, "V", masked(v), np.full(t.shape, act.max_voltage_v),
-                                 util(ratio(np.abs(v), act.max_voltage_v)),
-                                 source="R_hot I + Ke N qd from the measured current and speed"))
+                bus = log.get("robot", "bus_voltage")
+                vmax = (np.full(t.shape, act.max_voltage_v) if bus is None
+                        else act.max_voltage_v * np.nan_to_num(bus, nan=act.bus_voltage_v) / act.bus_voltage_v)
+                out.append(trace("voltage", name, "V", masked(v), vmax, util(ratio(np.abs(v), vmax)),
+                                 source="R_hot I + Ke N qd from the measured current and speed, against "
+                                        + ("the drive voltage" if bus is None else "the drive voltage at the measured bus")))
         if tau is not None:
             lo, hi, source = joint_torque_limits_nm(joint, np.nan_to_num(qd) if qd is not None else np.zeros_like(t),
                                                     voltage=False)
@@ -299,6 +305,20 @@ def measured_traces(log: HardwareLog, robot, joints, compared: np.ndarray, perio
             rise, allowed = tw - th.ambient_temp_c, th.max_winding_temp_c - th.ambient_temp_c
             out.append(trace("winding_temperature", name, "K", masked(rise), np.full(t.shape, allowed),
                              util(ratio(rise, allowed)), source="measured winding temperature"))
+    from legbridge.limits.checks.ground import ground_utilisation
+
+    mu = float(friction if friction is not None else robot.ground_friction)
+    for leg in legs:  # a logged ground force against the contact limits, in the leg's logged stance
+        fx, fz = log.get(leg, "ground_force_x"), log.get(leg, "ground_force_z")
+        if fz is None:
+            continue
+        fx = np.zeros_like(fz) if fx is None else fx
+        contact = log.get(leg, "contact")
+        stance = (np.asarray(contact, dtype=bool) if contact is not None else np.nan_to_num(fz) > 0.0) & compared
+        uni, allowed, cone = ground_utilisation(fx, fz, mu, stance)
+        out.append(trace("unilateral_force", leg, "N", masked(fz), 0.0, util(uni), source="measured ground force"))
+        out.append(trace("friction_cone", leg, "N", masked(np.abs(fx)), allowed, util(cone),
+                         source=f"measured ground force, friction coefficient {mu:g}"))
     return tuple(out)
 
 
@@ -400,7 +420,8 @@ def compare_log(log: HardwareLog, reviewed, robot, settings, *, review_path: str
                                                float(w_pred[okw][-1]), joint.actuator.thermal.max_winding_temp_c))
         predicted[n] = pred
     say("checking every measured sample against the modelled limits")
-    traces = measured_traces(log, robot, names, compared, period)
+    traces = measured_traces(log, robot, names, compared, period, legs=tuple(robot.legs) or ("leg",),
+                             friction=settings.friction)
     segs = tuple(s for tr in traces for s in trace_segments(reviewed.case, tr, t, settings.margin))
     segs = tuple(sorted(segs, key=lambda s: (s.severity != Verdict.EXCEEDS, -s.utilisation, s.t_start_s)))
     summary = summarise(reviewed.case, traces, segs, ())

@@ -15,21 +15,27 @@ from .base import PANEL_GROUND, SCOPE_LEG, CheckContext, Limit, ratio, trace
 
 
 
-def evaluate(ctx: CheckContext):
-    """This limit's LimitTraces for one case (value, allowed and utilisation per sample)."""
-    f = np.asarray(ctx.traj.foot_force_n, dtype=float)
-    fx, fz = f[:, 0], f[:, 1]
-    stance = np.asarray(ctx.traj.stance, dtype=bool)
+def ground_utilisation(fx, fz, mu: float, stance) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(unilateral utilisation, friction-cone allowed |Fx| [N], friction-cone utilisation) of ground forces
+    [N] (definitions in the module docstring); samples outside ``stance`` count 0."""
+    fx, fz = np.asarray(fx, dtype=float), np.asarray(fz, dtype=float)
+    stance = np.asarray(stance, dtype=bool)
     mag = np.hypot(fx, fz)
     uni = np.ones_like(fz)
     np.divide(fz, mag, out=uni, where=mag > 0)
     uni = np.where(mag > 0, 1.0 - uni, 0.0)
     uni = np.where(np.isnan(mag), np.nan, uni)
-    mu = ctx.friction
     cone_allowed = mu * np.maximum(fz, 0.0)
     cone = ratio(np.abs(fx), cone_allowed)
-    uni = np.where(stance, uni, 0.0)
-    cone = np.where(stance, cone, 0.0)
+    return np.where(stance, uni, 0.0), cone_allowed, np.where(stance, cone, 0.0)
+
+
+def evaluate(ctx: CheckContext):
+    """This limit's LimitTraces for one case (value, allowed and utilisation per sample)."""
+    f = np.asarray(ctx.traj.foot_force_n, dtype=float)
+    fx, fz = f[:, 0], f[:, 1]
+    mu = ctx.friction
+    uni, cone_allowed, cone = ground_utilisation(fx, fz, mu, ctx.traj.stance)
     return (
         trace("unilateral_force", "", "N", fz, 0.0, uni, source="contact cannot pull"),
         trace("friction_cone", "", "N", np.abs(fx), cone_allowed, cone, source=f"friction coefficient {mu:g}"),

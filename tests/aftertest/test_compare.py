@@ -96,3 +96,32 @@ def test_the_result_does_not_depend_on_the_review_rate(tmp_path, reviewed):
     for j in ("left_knee", "right_knee"):
         ka, kb = a.drive_fits[j].torque_constant_nm_per_a.value, b.drive_fits[j].torque_constant_nm_per_a.value
         assert ka == pytest.approx(kb, rel=0.01)
+
+
+def test_logged_ground_force_and_bus_voltage_are_held_against_their_limits(tmp_path, reviewed):
+    # Coulomb friction (any statics textbook): the foot holds while |Fx| <= mu Fz; lab-biped's mu is 0.7,
+    # so 400 N along the ground on 500 N of load uses 400 / 350 = 114.3 % of the cone. The drive's voltage
+    # is the bus voltage times the modulation factor: a bus sagging to half doubles the voltage utilisation.
+    rv, robot, settings = reviewed
+    base = _log(tmp_path, reviewed)
+    n = base.time_s.size
+    cols = {"time_s": base.time_s}
+    for c in base.channels:
+        cols[c.column] = c.values
+    cols.update({"left_contact": np.ones(n), "left_ground_force_x_n": np.full(n, 400.0),
+                 "left_ground_force_z_n": np.full(n, 500.0)})
+    np.savez(tmp_path / "with-force.npz", **cols)
+    log = read_log(str(tmp_path / "with-force.npz"), None, joints=base.joints(), legs=("left", "right"))
+    res = compare_log(log, rv, robot, settings)
+    cone = next(t for t in res.traces if t.limit == "friction_cone" and t.joint == "left")
+    assert float(np.max(cone.utilisation)) == pytest.approx(400 / (0.7 * 500), rel=1e-9)
+    assert any(s.limit == "friction_cone" and s.severity.value == "exceeds" for s in res.segments)
+    cols["bus_voltage_v"] = np.full(n, 24.0)
+    np.savez(tmp_path / "with-bus.npz", **cols)
+    sagged = compare_log(read_log(str(tmp_path / "with-bus.npz"), None, joints=base.joints(), legs=("left", "right")),
+                         rv, robot, settings)
+
+    def volt(r):
+        return float(np.max(next(t for t in r.traces if t.limit == "voltage" and t.joint == "left_knee").utilisation))
+
+    assert volt(sagged) == pytest.approx(2 * volt(res), rel=1e-9)
