@@ -205,7 +205,9 @@ def render_after_test(result, corrected=None) -> str:
     identified = (f'<section id="identified"><h2>4. What the log says the robot file gets wrong</h2>'
                   "<p>Least-squares estimates with 95 % confidence intervals (widened for correlated residuals). A value is "
                   "marked as differing when the file's value lies outside its interval and the two differ by "
-                  f"{100 * MIN_RELATIVE_CHANGE:g} % or more; only those go into the corrected robot file.</p>"
+                  f"{100 * MIN_RELATIVE_CHANGE:g} % or more; only those go into the corrected robot file. The intervals "
+                  "reflect the log's noise, not the model's own approximations (interpolation between samples, timing), "
+                  "which with thousands of samples can matter more: hence the second condition.</p>"
                   f'<table class="identified">{id_head}{id_body}</table>{fits}{notes}{corr}</section>')
     name = os.path.basename(log.path)
     return ("<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">"
