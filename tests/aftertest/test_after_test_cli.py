@@ -56,7 +56,7 @@ def test_the_demo_log_finds_the_planted_errors(after):
         assert eta["value"] == pytest.approx(0.85, abs=0.003) and eta["differs_from_file"]
     for joint in ("left_hip", "right_hip"):  # as the file: not rewritten
         assert not found[(joint, "gearbox_efficiency")]["differs_from_file"]
-    assert doc["cautions"] and "safe" not in (out / "after-test.html").read_text().lower().replace("safety", "")
+    assert doc["cautions"]  # the report's text is checked for the caution and the word 'safe' below
 
 
 def test_the_corrected_file_is_written_beside_and_changes_the_verdict_as_predicted(after, review_dir, tmp_path):
