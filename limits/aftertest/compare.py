@@ -125,7 +125,8 @@ class AfterTest:
     margin: tuple[MarginUse, ...]
     drive_fits: dict                    # joint -> identify.DriveFit
     thermal_fits: dict                  # joint -> identify.ThermalFit
-    predicted: dict = field(default_factory=dict)   # joint -> {"current_a", "winding_c", "position_rad", "velocity_rad_s"} at the log samples
+    predicted: dict = field(default_factory=dict)   # joint -> {"current_a", "winding_c", "position_rad", "velocity_rad_s",
+                                                    # "identified_winding_c"} at the log samples
     notes: tuple[str, ...] = ()
 
     @property
@@ -249,7 +250,7 @@ def measured_traces(log: HardwareLog, robot, joints, compared: np.ndarray, perio
                     friction: float | None = None) -> tuple:
     """Every modelled limit a log quantity can be held against, as LimitTraces over the log samples
     (samples before the motion's start carry NaN value and utilisation 0)."""
-    from legbridge.limits.checks.base import ratio, trace
+    from legbridge.limits.checks.base import ratio, signed_ratio, trace
     from legbridge.limits.checks.joint_range import range_utilisation
     from legbridge.robots.actuator_limits import (hot_winding_resistance_ohm, joint_torque_limits_nm,
                                                   max_joint_speed)
@@ -296,8 +297,6 @@ def measured_traces(log: HardwareLog, robot, joints, compared: np.ndarray, perio
             lo, hi, source = joint_torque_limits_nm(joint, np.nan_to_num(qd) if qd is not None else np.zeros_like(t),
                                                     voltage=False)
             allowed = np.where(tau >= 0, hi, lo)
-            from legbridge.limits.checks.base import signed_ratio
-
             out.append(trace("peak_torque", name, "N m", masked(tau), allowed, util(signed_ratio(tau, lo, hi)),
                              source=source + "; measured torque"))
         if tw is not None:
@@ -473,6 +472,9 @@ def compare_log(log: HardwareLog, reviewed, robot, settings, *, review_path: str
                 file_r=th.winding_resistance_k_per_w, file_tau=th.winding_time_constant_s,
                 housing_temp_c=th_h[okt] if two else None,
                 file_housing_r=th.housing_resistance_k_per_w, file_housing_tau=th.housing_time_constant_s)
+            fitted = np.full(t.shape, np.nan)
+            fitted[okt] = thermal[n].fitted_winding_c  # on the log's samples (NaN where the fit had none)
+            predicted[n]["identified_winding_c"] = fitted
         except LegbridgeError as exc:
             notes.append(f"{n}: thermal model not identified: {exc}")
     return AfterTest(review_path, review_sha256, plan_path, plan_sha256, robot, settings, reviewed.case, reviewed, log, al,

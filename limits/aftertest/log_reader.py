@@ -61,6 +61,7 @@ from pathlib import Path
 import numpy as np
 
 from legbridge.mapping.plan import frozen_array
+from legbridge.mapping.readers.npz_reader import check_declared_size  # NPZ and MAT sizes bounded as for plans
 from legbridge.mapping.readers.raw import MAX_PLAN_FILE_BYTES
 from legbridge.mapping.readers.validation import MAX_MAGNITUDE
 from legbridge.robots.errors import Described, InputFileNotFound, LogFormatError, UsageError
@@ -70,9 +71,6 @@ from .log import JOINT_QUANTITIES, LEG_QUANTITIES, ROBOT_QUANTITIES, Channel, Ha
 
 MAX_LOG_FILE_BYTES = MAX_PLAN_FILE_BYTES
 """A log (or mapping) file larger than this is refused before it is read, as a plan file is."""
-MAX_ELEMENTS = 100_000_000
-"""An NPZ member or MAT-file variable declaring more elements is refused before it is loaded
-(1e8 samples is 28 hours at 1 kHz)."""
 MIN_SAMPLES = 10
 """Fewer samples than this are not a log worth holding against a plan."""
 TEMPERATURE_RANGE_C = (-60.0, 400.0)
@@ -258,16 +256,9 @@ def _npz_table(data: bytes, path: str) -> _Table:
     out = {}
     with npz:
         for name in npz.files:
-            member = name if name.endswith(".npy") else name + ".npy"
-            try:  # the declared shape first: a header may claim more than the machine holds
-                with npz.zip.open(member) as fh:
-                    version = np.lib.format.read_magic(fh)
-                    read = np.lib.format.read_array_header_1_0 if version == (1, 0) else np.lib.format.read_array_header_2_0
-                    shape, _, _ = read(fh, max_header_size=10000)
-                n = int(np.prod([int(d) for d in shape], dtype=object)) if shape else 1
-                if n > MAX_ELEMENTS or any(int(d) < 0 for d in shape):
-                    raise LogFormatError("array too large for a log", path=path, key=name,
-                                         expected=f"at most {MAX_ELEMENTS:,} elements", found=Described(f"shape {tuple(shape)}"))
+            # the declared shape first: a header may claim more than the machine holds
+            check_declared_size(npz, name, path, LogFormatError, "a log")
+            try:
                 out[name] = npz[name]
             except LogFormatError:
                 raise

@@ -84,17 +84,12 @@ def temperature_figure(result):
         ax.axhline(x.limit_c, color=plots.LIMIT, linewidth=2.4, label="winding limit" if j == 0 else None)
         ax.plot(t, result.predicted[x.joint]["winding_c"], color=plots.PLAN_WIDE, linewidth=3.2,
                 label="predicted (robot file)" if j == 0 else None)
-        fit = result.thermal_fits.get(x.joint)
         m = result.log.get(x.joint, "winding_temp")
         ax.plot(*plots.envelope(t, m), color=plots.INK, linewidth=0.8, label="measured" if j == 0 else None)
-        if fit is not None:
-            ok = np.isfinite(m) & np.isfinite(result.log.get(x.joint, "current"))
-            h = result.log.get(x.joint, "housing_temp")
-            if h is not None and fit.two_node:
-                ok &= np.isfinite(h)
-            if int(ok.sum()) == fit.fitted_winding_c.size:
-                ax.plot(t[ok], fit.fitted_winding_c, color=plots.ALT, linewidth=1.1, linestyle=(0, (4, 2)),
-                        label="identified model" if j == 0 else None)
+        fitted = result.predicted[x.joint].get("identified_winding_c")
+        if fitted is not None:
+            ax.plot(t, fitted, color=plots.ALT, linewidth=1.1, linestyle=(0, (4, 2)),
+                    label="identified model" if j == 0 else None)
         ax.set_title(x.joint)
         ax.set_xlabel("log time [s]")
         if j == 0:

@@ -58,8 +58,9 @@ MAX_ELEMENTS = 100_000_000
 first): 1e8 samples is 28 hours at 1 kHz."""
 
 
-def _check_declared_size(npz, name: str, path: str) -> None:
-    """Refuse a member whose .npy header declares an absurd or impossible shape, before allocating it."""
+def check_declared_size(npz, name: str, path: str, error=PlanFormatError, what: str = "a plan") -> None:
+    """Refuse a member whose .npy header declares an absurd or impossible shape, before allocating it
+    (``error``: the reader's own LegbridgeError class; plans and hardware logs share this check)."""
     member = name if name.endswith(".npy") else name + ".npy"
     try:
         with npz.zip.open(member) as fh:
@@ -67,13 +68,13 @@ def _check_declared_size(npz, name: str, path: str) -> None:
             read = np.lib.format.read_array_header_1_0 if version == (1, 0) else np.lib.format.read_array_header_2_0
             shape, _, dtype = read(fh, max_header_size=10000)
     except (KeyError, ValueError, OSError, EOFError, zipfile.BadZipFile, SyntaxError) as exc:
-        raise PlanFormatError(f"damaged NPZ entry ({exc or type(exc).__name__})", path=path, key=name) from exc
+        raise error(f"damaged NPZ entry ({exc or type(exc).__name__})", path=path, key=name) from exc
     n = 1
     for d in shape:
         n *= int(d)
     if any(int(d) < 0 for d in shape) or n > MAX_ELEMENTS:
-        raise PlanFormatError("array too large for a plan", path=path, key=name,
-                              expected=f"at most {MAX_ELEMENTS:,} elements", found=Described(f"shape {tuple(shape)}"))
+        raise error(f"array too large for {what}", path=path, key=name,
+                    expected=f"at most {MAX_ELEMENTS:,} elements", found=Described(f"shape {tuple(shape)}"))
 
 
 def load_npz_arrays(data: bytes, path: str) -> dict:
@@ -91,7 +92,7 @@ def load_npz_arrays(data: bytes, path: str) -> dict:
     out = {}
     with npz:
         for name in npz.files:
-            _check_declared_size(npz, name, path)
+            check_declared_size(npz, name, path)
             try:
                 out[name] = npz[name]
             except ValueError as exc:
